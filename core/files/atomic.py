@@ -1,0 +1,32 @@
+"""Atomic file writing: a crash never leaves a half-written file behind.
+
+The text goes to a temporary file in the same folder, is flushed to disk, and
+is then renamed over the target (``os.replace`` is atomic on POSIX and on
+Windows within one volume), so the old file stays intact until the new one is
+complete.
+"""
+
+from __future__ import annotations
+
+import os
+import tempfile
+from pathlib import Path
+
+
+def atomic_write_text(path: str | os.PathLike[str], text: str, encoding: str = "utf-8") -> None:
+    """Write ``text`` to ``path`` atomically (temporary file + rename)."""
+    target = Path(path)
+    folder = target.parent if str(target.parent) else Path(".")
+    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
+    try:
+        with os.fdopen(fd, "w", encoding=encoding, newline="\n") as fh:
+            fh.write(text)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, target)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except FileNotFoundError:
+            pass
+        raise
