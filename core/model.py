@@ -14,6 +14,7 @@ from a node to itself, such as a cul-de-sac turning circle) are legal.
 
 from __future__ import annotations
 
+import itertools
 import math
 from collections.abc import Iterable, Iterator, Mapping
 from dataclasses import dataclass, field, replace
@@ -122,7 +123,7 @@ Coords = tuple[tuple[float, float], ...]
 def polyline_length(coords: Coords) -> float:
     """Planar length of a polyline in the units of its coordinates."""
     return sum(
-        math.hypot(x1 - x0, y1 - y0) for (x0, y0), (x1, y1) in zip(coords, coords[1:], strict=False)
+        math.hypot(x1 - x0, y1 - y0) for (x0, y0), (x1, y1) in itertools.pairwise(coords)
     )
 
 

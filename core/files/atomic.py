@@ -8,6 +8,7 @@ complete.
 
 from __future__ import annotations
 
+import contextlib
 import os
 import tempfile
 from pathlib import Path
@@ -25,8 +26,6 @@ def atomic_write_text(path: str | os.PathLike[str], text: str, encoding: str = "
             os.fsync(fh.fileno())
         os.replace(tmp, target)
     except BaseException:
-        try:
+        with contextlib.suppress(FileNotFoundError):
             os.unlink(tmp)
-        except FileNotFoundError:
-            pass
         raise
