@@ -1,0 +1,77 @@
+"""Plans: what the engine hands on to directions, route cards and the window.
+
+A :class:`Plan` is a plain data object: the ordered :class:`Step` list of one
+closed circuit from the depot, its totals, the method that produced it, a
+lower bound on the optimum and the timings.  Fleet plans (several vehicles and
+trips) will wrap several circuits; the plan file format already has room for
+them (``routes`` → ``trips`` → ``steps``).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+
+@dataclass(frozen=True, slots=True)
+class Step:
+    """One pass along one segment."""
+
+    segment: str
+    start: str
+    """The node the pass leaves."""
+    end: str
+    """The node the pass arrives at."""
+    service: bool
+    """True if this pass services the street; False for deadhead."""
+    length: float
+    """Metres (or the network's length unit)."""
+    forward: bool = True
+    """True when the pass follows the segment's geometry from ``start`` to ``end``
+    (the only way to tell the direction round a loop)."""
+
+
+@dataclass(slots=True)
+class Plan:
+    """A closed circuit from the depot with its figures.
+
+    ``lower_bound_m`` is a proven lower bound on the shortest possible
+    circuit; ``exact`` is true when the circuit is proven optimal (then the
+    bound equals the total up to rounding).
+    """
+
+    depot: str
+    steps: list[Step]
+    lower_bound_m: float
+    method: str
+    exact: bool
+    timings: dict[str, float] = field(default_factory=dict)
+    notes: list[str] = field(default_factory=list)
+    network_name: str = ""
+
+    @property
+    def total_m(self) -> float:
+        return math.fsum(s.length for s in self.steps)
+
+    @property
+    def service_m(self) -> float:
+        return math.fsum(s.length for s in self.steps if s.service)
+
+    @property
+    def deadhead_m(self) -> float:
+        return math.fsum(s.length for s in self.steps if not s.service)
+
+    @property
+    def gap(self) -> float:
+        """Relative gap ``(total - bound) / bound`` (0 when proven optimal)."""
+        if self.exact:
+            return 0.0
+        lb = self.lower_bound_m
+        if lb <= 0:
+            return 0.0 if self.total_m <= 0 else math.inf
+        return max(0.0, (self.total_m - lb) / lb)
+
+    @property
+    def deadhead_share(self) -> float:
+        total = self.total_m
+        return self.deadhead_m / total if total > 0 else 0.0

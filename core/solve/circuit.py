@@ -1,0 +1,397 @@
+"""One closed circuit from the depot that services every street that needs it.
+
+:func:`plan_circuit` is the engine's front door.  It checks the network,
+picks the exact method that fits and falls back to a published heuristic,
+with a proven lower bound, only where exactness is out of reach:
+
+===========================  ===========================================  ==========
+streets                      method                                       result
+===========================  ===========================================  ==========
+all two-way                  T-join by sparse-blossom matching            exact
+                             (Edmonds & Johnson 1973)
+one-way passes only          minimum-cost flow on HiGHS                    exact
+                             (Edmonds & Johnson 1973; Beltrami & Bodin
+                             1974)
+mixed                        integer program on HiGHS within the time     exact, or
+                             budget, else LP-guided orientation plus      bound + gap
+                             minimum-cost flow
+service in separate pieces   the above plus connectivity cuts, else       exact, or
+(rural postman)              Frederickson's (1979) spanning-tree links    bound + gap
+===========================  ===========================================  ==========
+
+Then an Eulerian circuit of the passes is walked from the depot (Hierholzer
+1873) and each pass is marked service or deadhead: a segment is serviced as
+many times as its requirement asks, by the first passes in the allowed
+direction; later passes are deadhead.
+
+The network is never modified.
+"""
+
+from __future__ import annotations
+
+import threading
+import time
+from collections.abc import Callable
+
+import numpy as np
+
+from core.errors import Cancelled, SolverError
+from core.model import Network
+from core.plan import Plan, Step
+from core.solve.arcs import ArcProblem, compile_network
+from core.solve.connect import linking_arcs, required_pieces
+from core.solve.euler import euler_circuit, orient_even
+from core.solve.mixed_ip import (
+    IPResult,
+    Stopwatch,
+    arc_model,
+    balance_fixed,
+    orient_by_relaxation,
+    pieces_without_depot,
+    solve_arc_ip,
+)
+from core.solve.reach import check_reachable
+from core.solve.tjoin import min_tjoin
+
+ProgressFn = Callable[[str, float], None]
+StopFlag = Callable[[], bool] | threading.Event
+
+METHOD_TJOIN = "T-join by sparse-blossom matching (Edmonds & Johnson 1973)"
+METHOD_FLOW = "minimum-cost flow (Edmonds & Johnson 1973)"
+METHOD_IP = "integer program (HiGHS)"
+METHOD_IP_CUTS = "integer program with connectivity cuts (HiGHS)"
+METHOD_ROUND = "LP-guided orientation and minimum-cost flow"
+METHOD_LINKS = "Frederickson (1979) spanning-tree links, then "
+
+_CUT_ROUNDS = 60
+
+
+STRATEGIES = ("auto", "heuristic")
+
+
+class _Ctx:
+    def __init__(
+        self, progress: ProgressFn | None, stop: StopFlag | None, budget: float, strategy: str
+    ):
+        self.progress = progress
+        self.stop = stop
+        self.watch = Stopwatch(budget)
+        self.heuristic_only = strategy == "heuristic"
+
+    def say(self, what: str, fraction: float) -> None:
+        if self.progress is not None:
+            self.progress(what, fraction)
+
+    def check(self) -> None:
+        s = self.stop
+        if s is None:
+            return
+        if s.is_set() if isinstance(s, threading.Event) else s():
+            raise Cancelled("planning was cancelled")
+
+
+def plan_circuit(
+    network: Network,
+    depot: str | None = None,
+    *,
+    time_limit: float = 30.0,
+    progress: ProgressFn | None = None,
+    stop: StopFlag | None = None,
+    strategy: str = "auto",
+) -> Plan:
+    """Plan the shortest closed circuit from the depot over every required pass.
+
+    Parameters
+    ----------
+    network
+        The street network; not modified.
+    depot
+        Node id of the depot; defaults to ``network.depot``.
+    time_limit
+        Seconds the integer programs may use in all (mixed and rural cases).
+    progress
+        Called as ``progress(what, fraction)`` between phases.
+    stop
+        A callable returning True, or a :class:`threading.Event` that is set,
+        to cancel between phases (raises :class:`~core.errors.Cancelled`).
+    strategy
+        ``"auto"`` (exact where the time budget allows) or ``"heuristic"``
+        (skip the integer programs: mixed and rural cases use the heuristics
+        straight away, still with a lower bound).
+
+    Returns
+    -------
+    Plan
+        The circuit with totals, a proven lower bound, the method and timings.
+
+    Raises
+    ------
+    DepotError, UnreachableError, OneWayTrapError
+        With the streets at fault named.
+    """
+    if strategy not in STRATEGIES:
+        raise ValueError(f"strategy {strategy!r} is not one of {', '.join(map(repr, STRATEGIES))}")
+    ctx = _Ctx(progress, stop, time_limit, strategy)
+    timings: dict[str, float] = {}
+    t = time.perf_counter()
+    ctx.say("checking the network", 0.0)
+    p = compile_network(network, depot)
+    check_reachable(p, network.street_names())
+    timings["check_s"] = time.perf_counter() - t
+    depot_id = p.node_ids[p.depot]
+    if not np.any(p.required):
+        return Plan(
+            depot_id,
+            [],
+            0.0,
+            "nothing needs service",
+            True,
+            timings,
+            ["No street in this network needs service."],
+            network.name,
+        )
+    ctx.check()
+    t = time.perf_counter()
+    ctx.say("finding the least deadhead", 0.1)
+    kind = p.kind()
+    label = required_pieces(p)
+    notes: list[str] = []
+    if int(label.max()) == 0:
+        x, bound, exact, method = _solve_connected(p, kind, None, ctx)
+    else:
+        x, bound, exact, method = _solve_pieces(p, kind, label, ctx, notes)
+    timings["solve_s"] = time.perf_counter() - t
+    ctx.check()
+    t = time.perf_counter()
+    ctx.say("walking the circuit", 0.9)
+    steps = walk(p, x)
+    timings["circuit_s"] = time.perf_counter() - t
+    timings["total_s"] = sum(timings.values())
+    total = float(np.dot(x, p.arc_cost))
+    if exact or bound > total:
+        bound = total
+    plan = Plan(depot_id, steps, bound, f"{kind}: {method}", exact, timings, notes, network.name)
+    ctx.say("done", 1.0)
+    return plan
+
+
+# -- the connected case ---------------------------------------------------------------------------
+def _segment_arcs(p: ArcProblem) -> tuple[np.ndarray, np.ndarray]:
+    """Per segment, the index of its forward and backward arc (-1 if not drivable that way)."""
+    fwd = np.full(p.n_segments, -1, dtype=np.int64)
+    bwd = np.full(p.n_segments, -1, dtype=np.int64)
+    k = np.arange(len(p.arc_seg))
+    fwd[p.arc_seg[p.arc_dir > 0]] = k[p.arc_dir > 0]
+    bwd[p.arc_seg[p.arc_dir < 0]] = k[p.arc_dir < 0]
+    return fwd, bwd
+
+
+def _loop_passes(p: ArcProblem) -> np.ndarray:
+    """Per arc, the service passes of loop segments (which no balancing needs)."""
+    x = np.zeros(len(p.arc_seg), dtype=np.int64)
+    loops = np.nonzero((p.tail == p.head) & p.required)[0]
+    if len(loops):
+        fwd, bwd = _segment_arcs(p)
+        f, b = fwd[loops], bwd[loops]
+        # each pass goes round the loop the way its requirement says; free passes go forward
+        # where allowed.  A one-way loop has only one arc and its needs are all on it.
+        x[np.where(f >= 0, f, b)] += p.need_fwd[loops] + p.need_any[loops]
+        x[np.where(b >= 0, b, f)] += p.need_bwd[loops]
+    return x
+
+
+def _fixed_lower(p: ArcProblem) -> np.ndarray:
+    """Per arc, the service passes whose direction is fixed (non-loop segments)."""
+    lower = np.where(p.arc_dir > 0, p.need_fwd[p.arc_seg], p.need_bwd[p.arc_seg]).astype(np.int64)
+    lower[p.tail[p.arc_seg] == p.head[p.arc_seg]] = 0
+    return lower
+
+
+def _undirected(p: ArcProblem, forced: np.ndarray | None) -> np.ndarray:
+    """Passes per arc for a network with no one-way street: exact by T-join.
+
+    ``forced`` (per arc) adds passes that must be driven (links between
+    pieces); on a two-way network their direction is free.
+    """
+    non_loop = p.tail != p.head
+    q = np.where(non_loop, p.need_any, 0).astype(np.int64)
+    if forced is not None:
+        q = q + np.bincount(p.arc_seg, weights=forced, minlength=p.n_segments).astype(np.int64)
+    deg = np.bincount(p.tail, weights=q, minlength=p.n_nodes) + np.bincount(
+        p.head, weights=q, minlength=p.n_nodes
+    )
+    odd = (deg.astype(np.int64) % 2) == 1
+    join = min_tjoin(p.n_nodes, p.tail, p.head, p.length, odd)
+    und = q.copy()
+    und[join] += 1
+    rep = np.repeat(np.arange(p.n_segments), und)
+    dirs = orient_even(p.n_nodes, p.tail[rep], p.head[rep])
+    fwd_n = np.bincount(rep[dirs > 0], minlength=p.n_segments)
+    bwd_n = np.bincount(rep[dirs < 0], minlength=p.n_segments)
+    fwd, bwd = _segment_arcs(p)
+    x = _fixed_lower(p) + _loop_passes(p)
+    np.add.at(x, fwd[fwd_n > 0], fwd_n[fwd_n > 0])
+    np.add.at(x, bwd[bwd_n > 0], bwd_n[bwd_n > 0])
+    return x
+
+
+def _directed(p: ArcProblem, forced: np.ndarray | None) -> np.ndarray:
+    lower = _fixed_lower(p)
+    if forced is not None:
+        lower = np.maximum(lower, forced)
+    return balance_fixed(p, lower) + _loop_passes(p)
+
+
+def _mixed(
+    p: ArcProblem, forced: np.ndarray | None, ctx: _Ctx, budget: float
+) -> tuple[np.ndarray, float, bool, str]:
+    mod = arc_model(p, forced)
+    if ctx.heuristic_only:
+        res = IPResult(None, np.inf, 0.0, False, "skipped")
+    else:
+        res = solve_arc_ip(p, mod, time_limit=budget)
+    loops = _loop_passes(p)
+    if res.x is not None and res.optimal:
+        x = loops.copy()
+        x[mod.arcs] += res.x
+        return x, res.objective, True, METHOD_IP
+    ctx.check()
+    relax = solve_arc_ip(p, mod, time_limit=max(ctx.watch.left(), 5.0), relax=True)
+    guide = relax.x if relax.x is not None else (res.x if res.x is not None else mod.lower)
+    lower = orient_by_relaxation(p, mod, np.asarray(guide, dtype=np.float64))
+    if forced is not None:
+        lower = np.maximum(lower, forced)
+    x = balance_fixed(p, lower) + loops
+    method = METHOD_ROUND
+    if res.x is not None:
+        cand = loops.copy()
+        cand[mod.arcs] += res.x
+        if np.dot(cand, p.arc_cost) < np.dot(x, p.arc_cost):
+            x, method = cand, METHOD_IP + " (stopped at the time limit)"
+    bound = max(res.bound, relax.objective if relax.x is not None else 0.0)
+    return x, bound, False, method
+
+
+def _solve_connected(
+    p: ArcProblem, kind: str, forced: np.ndarray | None, ctx: _Ctx, budget: float | None = None
+) -> tuple[np.ndarray, float, bool, str]:
+    """Passes per arc, lower bound, exactness and method when the service is one piece."""
+    if kind == "undirected":
+        x = _undirected(p, forced)
+        return x, float(np.dot(x, p.arc_cost)), True, METHOD_TJOIN
+    if kind == "directed":
+        x = _directed(p, forced)
+        return x, float(np.dot(x, p.arc_cost)), True, METHOD_FLOW
+    return _mixed(p, forced, ctx, ctx.watch.left() if budget is None else budget)
+
+
+# -- service in several pieces (rural postman) ----------------------------------------------------
+def _solve_pieces(
+    p: ArcProblem, kind: str, label: np.ndarray, ctx: _Ctx, notes: list[str]
+) -> tuple[np.ndarray, float, bool, str]:
+    n_pieces = int(label.max()) + 1
+    loops_at = p.tail[(p.tail == p.head) & p.required]
+    # 1. the relaxation without connectivity: a lower bound, sometimes already connected
+    x0, bound, exact0, method0 = _solve_connected(p, kind, None, ctx, ctx.watch.left() * 0.3)
+    mod = arc_model(p)
+    pieces = pieces_without_depot(p, mod, x0[mod.arcs], loops_required=loops_at)
+    if not pieces:
+        return x0, bound, exact0, method0
+    ctx.check()
+    # 2. exact attempt: integer program with connectivity cuts
+    best_x: np.ndarray | None = None
+    best_exact = False
+    cuts = list(pieces)
+    loops = _loop_passes(p)
+    for _round in range(0 if ctx.heuristic_only else _CUT_ROUNDS):
+        left = ctx.watch.left() * 0.8
+        if left <= 0.5:
+            break
+        ctx.check()
+        ctx.say(f"linking {n_pieces} pieces of service ({len(cuts)} cuts)", 0.3)
+        res = solve_arc_ip(p, mod, cuts=cuts, time_limit=left)
+        bound = max(bound, res.bound)
+        if res.x is None:
+            break
+        new = pieces_without_depot(p, mod, res.x, loops_required=loops_at)
+        if not new:
+            best_x = loops.copy()
+            best_x[mod.arcs] += res.x
+            best_exact = res.optimal
+            break
+        if not res.optimal:
+            break
+        cuts.extend(new)
+    if best_x is not None and best_exact:
+        return best_x, float(np.dot(best_x, p.arc_cost)), True, METHOD_IP_CUTS
+    # 3. heuristic: Frederickson's links, then the connected-case method
+    ctx.check()
+    links = linking_arcs(p, label)
+    forced = np.zeros(len(p.arc_seg), dtype=np.int64)
+    forced[links] = 1
+    x, _b2, _ex, method = _solve_connected(p, kind, forced, ctx, max(ctx.watch.left(), 1.0))
+    method = METHOD_LINKS + method
+    if best_x is not None and np.dot(best_x, p.arc_cost) < np.dot(x, p.arc_cost):
+        x, method = best_x, METHOD_IP_CUTS + " (stopped at the time limit)"
+    notes.append(
+        f"The streets that need service form {n_pieces} separate pieces; the links between "
+        "them are not proven shortest (see the gap)."
+    )
+    return x, bound, False, method
+
+
+# -- the walk -------------------------------------------------------------------------------------
+def walk(p: ArcProblem, x: np.ndarray) -> list[Step]:
+    """Walk the passes ``x`` (count per arc) as one circuit from the depot and mark service.
+
+    Each segment is serviced by its first passes in an allowed direction,
+    exactly as many times as it needs; later passes are deadhead.  O(m).
+    """
+    x = np.asarray(x, dtype=np.int64)
+    arc = np.repeat(np.arange(len(x)), x)
+    frm = p.arc_from[arc]
+    to = p.arc_to[arc]
+    if not np.array_equal(
+        np.bincount(frm, minlength=p.n_nodes), np.bincount(to, minlength=p.n_nodes)
+    ):
+        raise SolverError("the passes are not balanced at every junction; this is a bug")
+    order = euler_circuit(p.n_nodes, frm, to, p.depot)
+    need_f = p.need_fwd.tolist()
+    need_b = p.need_bwd.tolist()
+    need_a = p.need_any.tolist()
+    arc_seg = p.arc_seg.tolist()
+    arc_dir = p.arc_dir.tolist()
+    arcs = arc.tolist()
+    length = p.length.tolist()
+    seg_ids = p.seg_ids
+    node_ids = p.node_ids
+    frm_l = frm.tolist()
+    to_l = to.tolist()
+    steps: list[Step] = []
+    for k in order:
+        a = arcs[k]
+        s = arc_seg[a]
+        service = False
+        if arc_dir[a] > 0 and need_f[s] > 0:
+            need_f[s] -= 1
+            service = True
+        elif arc_dir[a] < 0 and need_b[s] > 0:
+            need_b[s] -= 1
+            service = True
+        elif need_a[s] > 0:
+            need_a[s] -= 1
+            service = True
+        steps.append(
+            Step(
+                seg_ids[s],
+                node_ids[frm_l[k]],
+                node_ids[to_l[k]],
+                service,
+                length[s],
+                arc_dir[a] > 0,
+            )
+        )
+    if any(need_f) or any(need_b) or any(need_a):
+        missing = [seg_ids[i] for i in range(len(seg_ids)) if need_f[i] or need_b[i] or need_a[i]]
+        raise SolverError(f"the circuit misses service on {missing[:5]}; this is a bug")
+    return steps

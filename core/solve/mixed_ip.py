@@ -1,0 +1,259 @@
+"""Integer programs for mixed networks and for optional streets, with HiGHS.
+
+The model counts the passes ``x_a`` along every drivable arc ``a`` (a
+two-way street has an arc each way, a one-way street one):
+
+* ``x_a >= r_a``: the service passes whose direction is fixed;
+* ``x_uv + x_vu >= q_e`` for a two-way street ``e`` whose ``q_e`` passes may
+  go either way;
+* as many passes into every node as out of it;
+* optionally, connectivity cuts ``sum(x_a for a leaving S) >= 1`` for node
+  sets ``S`` that hold service but not the depot.
+
+Minimising ``sum(c_a x_a)`` gives the mixed Chinese postman optimum (the
+arc formulation of Christofides, Benavent, Campos, Corberán & Mota 1984 and
+Nobert & Picard 1996, without their odd-cut inequalities, which HiGHS's own
+cuts replace).  When the streets needing service and the depot are connected,
+every optimal solution is a connected Eulerian multigraph and so a circuit.
+When they are not (the rural postman problem), cuts are added for each
+disconnected piece of the current solution and the program solved again,
+until the solution is connected (exact) or the time budget runs out; each
+program solved to optimality is a relaxation and gives a valid lower bound.
+
+Solved by :func:`scipy.optimize.milp` (HiGHS branch-and-cut).
+
+References
+----------
+N. Christofides, E. Benavent, V. Campos, A. Corberán and E. Mota, "An optimal
+method for the mixed postman problem", in System Modelling and Optimization,
+LNCIS 59, Springer (1984) 641–649.
+Y. Nobert and J.-C. Picard, "An optimal algorithm for the mixed Chinese
+postman problem", Networks 27 (1996) 95–108.
+G. N. Frederickson, "Approximation algorithms for some postman problems",
+Journal of the ACM 26 (1979) 538–554.
+"""
+
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.sparse as sp
+from scipy.optimize import Bounds, LinearConstraint, linprog, milp
+from scipy.sparse.csgraph import connected_components
+
+from core.errors import SolverError
+from core.solve.arcs import ArcProblem
+from core.solve.flow import incidence, min_cost_balance
+
+
+@dataclass(frozen=True)
+class ArcModel:
+    """The non-loop arcs of a problem with their fixed and free service passes."""
+
+    arcs: np.ndarray  # indices into p.arc_* of the arcs in the model
+    frm: np.ndarray
+    to: np.ndarray
+    cost: np.ndarray
+    lower: np.ndarray  # fixed-direction passes each arc must carry
+    cover_segs: np.ndarray  # two-way segments with free-direction passes
+    cover_need: np.ndarray  # total passes each such segment needs
+    cover_fwd: np.ndarray  # model index of its forward arc
+    cover_bwd: np.ndarray  # model index of its backward arc
+
+
+def arc_model(p: ArcProblem, extra_lower: np.ndarray | None = None) -> ArcModel:
+    """Collect the arcs and bounds of the arc formulation.  O(m)."""
+    not_loop = p.tail[p.arc_seg] != p.head[p.arc_seg]
+    arcs = np.nonzero(not_loop)[0]
+    seg = p.arc_seg[arcs]
+    d = p.arc_dir[arcs]
+    lower = np.where(d > 0, p.need_fwd[seg], p.need_bwd[seg]).astype(np.int64)
+    if extra_lower is not None:
+        lower = np.maximum(lower, extra_lower[arcs])
+    # segments with free-direction passes are two-way: both arcs are in the model
+    pos_f = np.full(p.n_segments, -1, dtype=np.int64)
+    pos_b = np.full(p.n_segments, -1, dtype=np.int64)
+    pos_f[seg[d > 0]] = np.nonzero(d > 0)[0]
+    pos_b[seg[d < 0]] = np.nonzero(d < 0)[0]
+    cover = np.nonzero((p.need_any > 0) & (p.tail != p.head))[0]
+    need = p.need_any[cover] + p.need_fwd[cover] + p.need_bwd[cover]
+    return ArcModel(
+        arcs=arcs,
+        frm=p.arc_from[arcs],
+        to=p.arc_to[arcs],
+        cost=p.length[seg],
+        lower=lower,
+        cover_segs=cover,
+        cover_need=need,
+        cover_fwd=pos_f[cover],
+        cover_bwd=pos_b[cover],
+    )
+
+
+@dataclass(frozen=True)
+class IPResult:
+    x: np.ndarray | None  # passes per model arc, or None when nothing feasible was found
+    objective: float
+    bound: float
+    optimal: bool
+    message: str
+
+
+def _constraints(p: ArcProblem, mod: ArcModel, cuts: list[np.ndarray]) -> list[LinearConstraint]:
+    k = len(mod.arcs)
+    cons = [LinearConstraint(incidence(p.n_nodes, mod.frm, mod.to), 0, 0)]
+    if len(mod.cover_segs):
+        r = np.arange(len(mod.cover_segs))
+        c = sp.csr_matrix(
+            (
+                np.ones(2 * len(r)),
+                (np.concatenate([r, r]), np.concatenate([mod.cover_fwd, mod.cover_bwd])),
+            ),
+            shape=(len(r), k),
+        )
+        cons.append(LinearConstraint(c, mod.cover_need, np.inf))
+    if cuts:
+        rows, cols = [], []
+        for i, inside in enumerate(cuts):
+            leaving = np.nonzero(inside[mod.frm] & ~inside[mod.to])[0]
+            rows.append(np.full(len(leaving), i))
+            cols.append(leaving)
+        m = sp.csr_matrix(
+            (np.ones(sum(len(c) for c in cols)), (np.concatenate(rows), np.concatenate(cols))),
+            shape=(len(cuts), k),
+        )
+        cons.append(LinearConstraint(m, 1, np.inf))
+    return cons
+
+
+def solve_arc_ip(
+    p: ArcProblem,
+    mod: ArcModel,
+    *,
+    cuts: list[np.ndarray] | None = None,
+    time_limit: float = 30.0,
+    relax: bool = False,
+) -> IPResult:
+    """Solve the arc formulation (or its LP relaxation with ``relax=True``).
+
+    Cost: NP-hard in general (the mixed postman problem is NP-hard,
+    Papadimitriou 1976); HiGHS's branch-and-cut solves district-sized
+    networks in seconds.  ``time_limit`` bounds the wall time; the best
+    solution found and HiGHS's dual bound are returned when it runs out.
+    """
+    cuts = cuts or []
+    k = len(mod.arcs)
+    if k == 0:
+        return IPResult(np.zeros(0, dtype=np.int64), 0.0, 0.0, True, "empty")
+    cons = _constraints(p, mod, cuts)
+    bounds = Bounds(mod.lower.astype(np.float64), np.full(k, np.inf))
+    if relax:
+        a_ub = []
+        b_ub = []
+        a_eq = cons[0].A
+        for con in cons[1:]:
+            a_ub.append(-con.A)
+            b_ub.append(-np.broadcast_to(con.lb, (con.A.shape[0],)))
+        res = linprog(
+            mod.cost,
+            A_ub=sp.vstack(a_ub).tocsr() if a_ub else None,
+            b_ub=np.concatenate(b_ub) if b_ub else None,
+            A_eq=a_eq,
+            b_eq=np.zeros(p.n_nodes),
+            bounds=list(zip(mod.lower.astype(float), [None] * k, strict=True)),
+            method="highs",
+            options={"time_limit": max(time_limit, 1.0)},
+        )
+        if res.status != 0:
+            return IPResult(None, np.inf, 0.0, False, res.message)
+        return IPResult(res.x, float(res.fun), float(res.fun), True, res.message)
+    res = milp(
+        mod.cost,
+        constraints=cons,
+        integrality=np.ones(k),
+        bounds=bounds,
+        options={"time_limit": max(time_limit, 0.5), "mip_rel_gap": 1e-9, "disp": False},
+    )
+    bound = float(getattr(res, "mip_dual_bound", np.nan) or 0.0)
+    if res.x is None:
+        if res.status == 2:
+            raise SolverError("the integer program is infeasible; a street cannot be reached")
+        return IPResult(None, np.inf, bound if np.isfinite(bound) else 0.0, False, res.message)
+    x = np.rint(res.x).astype(np.int64)
+    optimal = res.status == 0
+    objective = float(np.dot(mod.cost, x))
+    if optimal:
+        bound = max(bound, objective) if np.isfinite(bound) else objective
+    return IPResult(x, objective, bound if np.isfinite(bound) else 0.0, optimal, res.message)
+
+
+def pieces_without_depot(
+    p: ArcProblem, mod: ArcModel, x: np.ndarray, *, loops_required: np.ndarray
+) -> list[np.ndarray]:
+    """Node sets of the solution's pieces that hold service but not the depot.
+
+    ``loops_required`` marks nodes carrying a required loop segment (which
+    the arc model leaves out).  O(n + m).
+    """
+    used = x > 0
+    n = p.n_nodes
+    g = sp.csr_matrix((np.ones(int(used.sum())), (mod.frm[used], mod.to[used])), shape=(n, n))
+    _ncomp, label = connected_components(g, directed=False)
+    has_service = np.zeros(n, dtype=bool)
+    req = p.required
+    has_service[p.tail[req]] = True
+    has_service[loops_required] = True
+    comps = np.unique(label[has_service])
+    depot_label = label[p.depot]
+    return [label == c for c in comps if c != depot_label]
+
+
+def orient_by_relaxation(p: ArcProblem, mod: ArcModel, x: np.ndarray) -> np.ndarray:
+    """Fix the direction of every free pass to the way the solution ``x`` leans.
+
+    Returns per-arc lower bounds (over ``p``'s arcs) with the fixed-direction
+    passes plus the newly fixed free passes.  Ties go forward.  O(m).
+    """
+    lower = np.zeros(len(p.arc_seg), dtype=np.int64)
+    lower[mod.arcs] = mod.lower
+    if len(mod.cover_segs):
+        xf = x[mod.cover_fwd]
+        xb = x[mod.cover_bwd]
+        extra = mod.cover_need - mod.lower[mod.cover_fwd] - mod.lower[mod.cover_bwd]
+        extra = np.maximum(extra, 0)
+        go_fwd = xf >= xb
+        lower[mod.arcs[mod.cover_fwd[go_fwd]]] += extra[go_fwd]
+        lower[mod.arcs[mod.cover_bwd[~go_fwd]]] += extra[~go_fwd]
+    return lower
+
+
+def balance_fixed(p: ArcProblem, lower: np.ndarray) -> np.ndarray:
+    """Passes per arc: the fixed passes ``lower`` plus the cheapest balancing deadhead.
+
+    Exact for the directed problem (minimum-cost flow, see
+    :mod:`core.solve.flow`).
+    """
+    mod_arcs = np.nonzero(p.tail[p.arc_seg] != p.head[p.arc_seg])[0]
+    frm = p.arc_from[mod_arcs]
+    to = p.arc_to[mod_arcs]
+    low = lower[mod_arcs]
+    excess_in = np.bincount(to, weights=low, minlength=p.n_nodes) - np.bincount(
+        frm, weights=low, minlength=p.n_nodes
+    )
+    extra = min_cost_balance(p.n_nodes, frm, to, p.length[p.arc_seg[mod_arcs]], excess_in)
+    total = lower.copy()
+    total[mod_arcs] += extra
+    return total
+
+
+class Stopwatch:
+    """Seconds left of a budget."""
+
+    def __init__(self, budget: float) -> None:
+        self.t0 = time.perf_counter()
+        self.budget = budget
+
+    def left(self) -> float:
+        return self.budget - (time.perf_counter() - self.t0)
