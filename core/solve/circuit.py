@@ -12,11 +12,13 @@ all two-way                  T-join by sparse-blossom matching            exact
 one-way passes only          minimum-cost flow on HiGHS                    exact
                              (Edmonds & Johnson 1973; Beltrami & Bodin
                              1974)
-mixed                        integer program on HiGHS within the time     exact, or
-                             budget, else LP-guided orientation plus      bound + gap
-                             minimum-cost flow
-service in separate pieces   the above plus connectivity cuts, else       exact, or
-(rural postman)              Frederickson's (1979) spanning-tree links    bound + gap
+mixed                        parity T-join, LP-guided orientation and     exact, or
+                             minimum-cost flow, then (up to 20,000 arcs)  bound + gap
+                             an integer program on HiGHS within the
+                             time budget
+service in separate pieces   integer program with connectivity flow,      exact, or
+(rural postman)              else Frederickson's (1979) spanning-tree     bound + gap
+                             links
 ===========================  ===========================================  ==========
 
 Then an Eulerian circuit of the passes is walked from the depot (Hierholzer
@@ -32,6 +34,7 @@ from __future__ import annotations
 import threading
 import time
 from collections.abc import Callable
+from dataclasses import replace
 
 import numpy as np
 
@@ -42,7 +45,6 @@ from core.solve.arcs import ArcProblem, compile_network
 from core.solve.connect import linking_arcs, required_pieces
 from core.solve.euler import euler_circuit, orient_even
 from core.solve.mixed_ip import (
-    IPResult,
     Stopwatch,
     arc_model,
     balance_fixed,
@@ -59,11 +61,14 @@ StopFlag = Callable[[], bool] | threading.Event
 METHOD_TJOIN = "T-join by sparse-blossom matching (Edmonds & Johnson 1973)"
 METHOD_FLOW = "minimum-cost flow (Edmonds & Johnson 1973)"
 METHOD_IP = "integer program (HiGHS)"
-METHOD_IP_CUTS = "integer program with connectivity cuts (HiGHS)"
+METHOD_IP_LINKED = "integer program with connectivity flow (HiGHS)"
 METHOD_ROUND = "LP-guided orientation and minimum-cost flow"
+METHOD_EVEN_ROUND = "parity T-join, LP-guided orientation and minimum-cost flow"
 METHOD_LINKS = "Frederickson (1979) spanning-tree links, then "
 
-_CUT_ROUNDS = 60
+_IP_MAX_ARCS = 20_000
+"""Integer programs are tried only up to this many arcs (about 10,000 two-way streets):
+beyond it HiGHS does not close the gap within minutes, and the heuristics' gap is ~1 %."""
 
 
 STRATEGIES = ("auto", "heuristic")
@@ -242,34 +247,92 @@ def _directed(p: ArcProblem, forced: np.ndarray | None) -> np.ndarray:
     return balance_fixed(p, lower) + _loop_passes(p)
 
 
+def parity_join(p: ArcProblem) -> np.ndarray:
+    """Segments of a shortest T-join of the street graph with directions ignored, where T
+    is the nodes touched by an odd number of service passes (loops aside)."""
+    q = np.where(p.tail != p.head, p.need_fwd + p.need_bwd + p.need_any, 0)
+    deg = np.bincount(p.tail, weights=q, minlength=p.n_nodes) + np.bincount(
+        p.head, weights=q, minlength=p.n_nodes
+    )
+    return min_tjoin(p.n_nodes, p.tail, p.head, p.length, deg.astype(np.int64) % 2 == 1)
+
+
+def parity_bound(p: ArcProblem, join: np.ndarray | None = None) -> float:
+    """A lower bound on any circuit: service plus a shortest parity-fixing T-join.
+
+    Every closed walk, seen without directions, meets each node an even
+    number of times, so the passes beyond service form a T-join of the
+    street graph (Edmonds & Johnson 1973).  Valid for mixed networks and for
+    service in several pieces; exact for connected two-way networks.
+    """
+    if join is None:
+        join = parity_join(p)
+    return p.service_length + float(p.length[join].sum())
+
+
+def _with_join(p: ArcProblem, join: np.ndarray) -> ArcProblem:
+    """``p`` with one more pass needed on every segment of ``join``: free-direction on
+    two-way streets, along the street on one-way ones."""
+    need_any = p.need_any.copy()
+    need_fwd = p.need_fwd.copy()
+    need_bwd = p.need_bwd.copy()
+    ow = p.oneway[join]
+    np.add.at(need_any, join[ow == 0], 1)
+    np.add.at(need_fwd, join[ow > 0], 1)
+    np.add.at(need_bwd, join[ow < 0], 1)
+    return replace(p, need_any=need_any, need_fwd=need_fwd, need_bwd=need_bwd)
+
+
+def _round_and_balance(
+    q: ArcProblem, forced: np.ndarray | None, ctx: _Ctx, guide_x: np.ndarray | None = None
+) -> tuple[np.ndarray, float]:
+    """LP-guided orientation, then minimum-cost flow; returns passes and the LP value."""
+    mod = arc_model(q, forced)
+    relax = solve_arc_ip(q, mod, time_limit=max(ctx.watch.left(), 5.0), relax=True)
+    guide = relax.x if relax.x is not None else (guide_x if guide_x is not None else mod.lower)
+    lower = orient_by_relaxation(q, mod, np.asarray(guide, dtype=np.float64))
+    if forced is not None:
+        lower = np.maximum(lower, forced)
+    x = balance_fixed(q, lower) + _loop_passes(q)
+    return x, (relax.objective if relax.x is not None else 0.0)
+
+
 def _mixed(
     p: ArcProblem, forced: np.ndarray | None, ctx: _Ctx, budget: float
 ) -> tuple[np.ndarray, float, bool, str]:
-    mod = arc_model(p, forced)
-    if ctx.heuristic_only:
-        res = IPResult(None, np.inf, 0.0, False, "skipped")
-    else:
-        res = solve_arc_ip(p, mod, time_limit=budget)
+    """Mixed network: heuristic with a bound first, then the integer program if it may pay."""
     loops = _loop_passes(p)
-    if res.x is not None and res.optimal:
-        x = loops.copy()
-        x[mod.arcs] += res.x
-        return x, res.objective, True, METHOD_IP
+    # Heuristic starts, the better kept: orientation guided by the LP relaxation of the
+    # problem whose parity was first fixed by a T-join with directions ignored
+    # (Frederickson's 1979 EvenDegree step before his InOutDegree step), and, on networks
+    # small enough for a second LP to be cheap, of the problem itself.
+    join = parity_join(p)
+    x, lp_value = _round_and_balance(_with_join(p, join), forced, ctx)
+    method = METHOD_EVEN_ROUND
+    small = len(p.arc_seg) <= _IP_MAX_ARCS
+    if small:
+        x_plain, lp_value = _round_and_balance(p, forced, ctx)
+        if np.dot(x_plain, p.arc_cost) < np.dot(x, p.arc_cost):
+            x, method = x_plain, METHOD_ROUND
+    bound = 0.0
+    if forced is None:  # with links forced in, these would bound a different problem
+        bound = max(parity_bound(p, join), lp_value if small else 0.0)
+    cost = float(np.dot(x, p.arc_cost))
+    if forced is None and cost <= bound * (1 + 1e-12):
+        return x, cost, True, method
     ctx.check()
-    relax = solve_arc_ip(p, mod, time_limit=max(ctx.watch.left(), 5.0), relax=True)
-    guide = relax.x if relax.x is not None else (res.x if res.x is not None else mod.lower)
-    lower = orient_by_relaxation(p, mod, np.asarray(guide, dtype=np.float64))
-    if forced is not None:
-        lower = np.maximum(lower, forced)
-    x = balance_fixed(p, lower) + loops
-    method = METHOD_ROUND
+    if ctx.heuristic_only or not small or ctx.watch.left() < 0.5:
+        return x, bound, False, method
+    mod = arc_model(p, forced)
+    res = solve_arc_ip(p, mod, time_limit=min(budget, ctx.watch.left()))
     if res.x is not None:
         cand = loops.copy()
         cand[mod.arcs] += res.x
-        if np.dot(cand, p.arc_cost) < np.dot(x, p.arc_cost):
+        if res.optimal:
+            return cand, res.objective, True, METHOD_IP
+        if np.dot(cand, p.arc_cost) < cost:
             x, method = cand, METHOD_IP + " (stopped at the time limit)"
-    bound = max(res.bound, relax.objective if relax.x is not None else 0.0)
-    return x, bound, False, method
+    return x, max(bound, res.bound), False, method
 
 
 def _solve_connected(
@@ -291,48 +354,45 @@ def _solve_pieces(
 ) -> tuple[np.ndarray, float, bool, str]:
     n_pieces = int(label.max()) + 1
     loops_at = p.tail[(p.tail == p.head) & p.required]
-    # 1. the relaxation without connectivity: a lower bound, sometimes already connected
-    x0, bound, exact0, method0 = _solve_connected(p, kind, None, ctx, ctx.watch.left() * 0.3)
     mod = arc_model(p)
-    pieces = pieces_without_depot(p, mod, x0[mod.arcs], loops_required=loops_at)
-    if not pieces:
-        return x0, bound, exact0, method0
-    ctx.check()
-    # 2. exact attempt: integer program with connectivity cuts
-    best_x: np.ndarray | None = None
-    best_exact = False
-    cuts = list(pieces)
     loops = _loop_passes(p)
-    for _round in range(0 if ctx.heuristic_only else _CUT_ROUNDS):
-        left = ctx.watch.left() * 0.8
-        if left <= 0.5:
-            break
-        ctx.check()
-        ctx.say(f"linking {n_pieces} pieces of service ({len(cuts)} cuts)", 0.3)
-        res = solve_arc_ip(p, mod, cuts=cuts, time_limit=left)
+    bound = 0.0
+    # 1. Without the links: exact and quick for two-way and one-way networks, a lower bound,
+    #    and sometimes connected already (deadhead that pairs odd junctions may link pieces).
+    if kind != "mixed" or ctx.heuristic_only:
+        x0, bound, exact0, method0 = _solve_connected(p, kind, None, ctx)
+        if not pieces_without_depot(p, mod, x0[mod.arcs], loops_required=loops_at):
+            return x0, bound, exact0, method0
+    ctx.check()
+    # 2. Exact: the integer program with a connectivity flow from the depot to every piece.
+    best_x: np.ndarray | None = None
+    if not ctx.heuristic_only and ctx.watch.left() > 0.5:
+        ctx.say(f"linking {n_pieces} separate pieces of service", 0.3)
+        depot_piece = label[p.depot]
+        reach = np.array(
+            [int(np.argmax(label == c)) for c in range(n_pieces) if c != depot_piece],
+            dtype=np.int64,
+        )
+        # Cuts around each piece and around the depot's piece are implied by the flow but
+        # tighten its weak linear relaxation (the flow's big-M links).
+        cuts = [label == c for c in range(n_pieces)]
+        res = solve_arc_ip(p, mod, reach=reach, cuts=cuts, time_limit=ctx.watch.left() * 0.8)
         bound = max(bound, res.bound)
-        if res.x is None:
-            break
-        new = pieces_without_depot(p, mod, res.x, loops_required=loops_at)
-        if not new:
+        if res.x is not None:
             best_x = loops.copy()
             best_x[mod.arcs] += res.x
-            best_exact = res.optimal
-            break
-        if not res.optimal:
-            break
-        cuts.extend(new)
-    if best_x is not None and best_exact:
-        return best_x, float(np.dot(best_x, p.arc_cost)), True, METHOD_IP_CUTS
-    # 3. heuristic: Frederickson's links, then the connected-case method
+            if res.optimal:
+                return best_x, float(np.dot(best_x, p.arc_cost)), True, METHOD_IP_LINKED
+    # 3. Heuristic: Frederickson's links, then the connected-case method.
     ctx.check()
+    bound = max(bound, parity_bound(p))
     links = linking_arcs(p, label)
     forced = np.zeros(len(p.arc_seg), dtype=np.int64)
     forced[links] = 1
-    x, _b2, _ex, method = _solve_connected(p, kind, forced, ctx, max(ctx.watch.left(), 1.0))
+    x, _bound, _exact, method = _solve_connected(p, kind, forced, ctx, max(ctx.watch.left(), 1.0))
     method = METHOD_LINKS + method
     if best_x is not None and np.dot(best_x, p.arc_cost) < np.dot(x, p.arc_cost):
-        x, method = best_x, METHOD_IP_CUTS + " (stopped at the time limit)"
+        x, method = best_x, METHOD_IP_LINKED + " (stopped at the time limit)"
     notes.append(
         f"The streets that need service form {n_pieces} separate pieces; the links between "
         "them are not proven shortest (see the gap)."

@@ -40,11 +40,12 @@ from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
-from scipy.optimize import Bounds, LinearConstraint, linprog, milp
+from scipy.optimize import Bounds, LinearConstraint, milp
 from scipy.sparse.csgraph import connected_components
 
 from core.errors import SolverError
 from core.solve.arcs import ArcProblem
+from core.solve.euler import orient_even
 from core.solve.flow import incidence, min_cost_balance
 
 
@@ -101,6 +102,24 @@ class IPResult:
     message: str
 
 
+def _odd_degree_rows(p: ArcProblem, mod: ArcModel):
+    """Rows ``sum(x_a for a touching v) >= d_v + 1`` for nodes of odd service degree ``d_v``."""
+    passes = p.need_fwd + p.need_bwd + p.need_any
+    non_loop = p.tail != p.head
+    deg = np.bincount(p.tail[non_loop], weights=passes[non_loop], minlength=p.n_nodes) + (
+        np.bincount(p.head[non_loop], weights=passes[non_loop], minlength=p.n_nodes)
+    )
+    deg = deg.astype(np.int64)
+    odd_nodes = np.nonzero(deg % 2 == 1)[0]
+    row_of = np.full(p.n_nodes, -1, dtype=np.int64)
+    row_of[odd_nodes] = np.arange(len(odd_nodes))
+    k = np.arange(len(mod.arcs))
+    r1, r2 = row_of[mod.frm], row_of[mod.to]
+    rows = np.concatenate([r1[r1 >= 0], r2[r2 >= 0]])
+    cols = np.concatenate([k[r1 >= 0], k[r2 >= 0]])
+    return odd_nodes, rows, cols, (deg[odd_nodes] + 1).astype(np.float64)
+
+
 def _constraints(p: ArcProblem, mod: ArcModel, cuts: list[np.ndarray]) -> list[LinearConstraint]:
     k = len(mod.arcs)
     cons = [LinearConstraint(incidence(p.n_nodes, mod.frm, mod.to), 0, 0)]
@@ -114,6 +133,14 @@ def _constraints(p: ArcProblem, mod: ArcModel, cuts: list[np.ndarray]) -> list[L
             shape=(len(r), k),
         )
         cons.append(LinearConstraint(c, mod.cover_need, np.inf))
+    # Odd-degree cuts (Nobert & Picard 1996, for single nodes): every pass into a node
+    # leaves it, so the passes touching a node are even in number; where the service passes
+    # touching it are odd, at least one more must.  Implied by integrality, but they make the
+    # LP relaxation far tighter and HiGHS finds no such cuts itself.
+    odd_nodes, odd_rows, odd_cols, odd_rhs = _odd_degree_rows(p, mod)
+    if len(odd_nodes):
+        m = sp.csr_matrix((np.ones(len(odd_rows)), (odd_rows, odd_cols)), shape=(len(odd_nodes), k))
+        cons.append(LinearConstraint(m, odd_rhs, np.inf))
     if cuts:
         rows, cols = [], []
         for i, inside in enumerate(cuts):
@@ -133,10 +160,18 @@ def solve_arc_ip(
     mod: ArcModel,
     *,
     cuts: list[np.ndarray] | None = None,
+    reach: np.ndarray | None = None,
     time_limit: float = 30.0,
     relax: bool = False,
 ) -> IPResult:
     """Solve the arc formulation (or its LP relaxation with ``relax=True``).
+
+    ``reach`` lists nodes (one per separate piece of service) that the depot
+    must reach over driven arcs.  It is enforced by a single-commodity flow
+    (Gavish & Graves 1978): the depot sends one unit to each such node, and
+    flow may use an arc only if the arc is driven, ``f_a <= len(reach) * x_a``.
+    Each piece is connected inside by its own service passes, so this makes
+    the circuit connected in one solve, with no loop of cuts.
 
     Cost: NP-hard in general (the mixed postman problem is NP-hard,
     Papadimitriou 1976); HiGHS's branch-and-cut solves district-sized
@@ -148,40 +183,45 @@ def solve_arc_ip(
     if k == 0:
         return IPResult(np.zeros(0, dtype=np.int64), 0.0, 0.0, True, "empty")
     cons = _constraints(p, mod, cuts)
-    bounds = Bounds(mod.lower.astype(np.float64), np.full(k, np.inf))
-    if relax:
-        a_ub = []
-        b_ub = []
-        a_eq = cons[0].A
-        for con in cons[1:]:
-            a_ub.append(-con.A)
-            b_ub.append(-np.broadcast_to(con.lb, (con.A.shape[0],)))
-        res = linprog(
-            mod.cost,
-            A_ub=sp.vstack(a_ub).tocsr() if a_ub else None,
-            b_ub=np.concatenate(b_ub) if b_ub else None,
-            A_eq=a_eq,
-            b_eq=np.zeros(p.n_nodes),
-            bounds=list(zip(mod.lower.astype(float), [None] * k, strict=True)),
-            method="highs",
-            options={"time_limit": max(time_limit, 1.0)},
+    lower = mod.lower.astype(np.float64)
+    cost = mod.cost
+    n_flow = 0
+    if reach is not None and len(reach):
+        n_flow = k
+        big = float(len(reach))
+        cons = [
+            LinearConstraint(sp.hstack([c.A, sp.csr_matrix((c.A.shape[0], k))]), c.lb, c.ub)
+            for c in cons
+        ]
+        supply = np.zeros(p.n_nodes)
+        supply[reach] = -1.0
+        supply[p.depot] += big
+        inc = incidence(p.n_nodes, mod.frm, mod.to)
+        cons.append(
+            LinearConstraint(sp.hstack([sp.csr_matrix((p.n_nodes, k)), inc]), supply, supply)
         )
-        if res.status != 0:
-            return IPResult(None, np.inf, 0.0, False, res.message)
-        return IPResult(res.x, float(res.fun), float(res.fun), True, res.message)
+        link = sp.hstack([-big * sp.identity(k), sp.identity(k)])
+        cons.append(LinearConstraint(link, -np.inf, 0.0))
+        lower = np.concatenate([lower, np.zeros(k)])
+        cost = np.concatenate([cost, np.zeros(k)])
+    integrality = np.zeros(k + n_flow) if relax else np.concatenate([np.ones(k), np.zeros(n_flow)])
     res = milp(
-        mod.cost,
+        cost,
         constraints=cons,
-        integrality=np.ones(k),
-        bounds=bounds,
+        integrality=integrality,
+        bounds=Bounds(lower, np.full(k + n_flow, np.inf)),
         options={"time_limit": max(time_limit, 0.5), "mip_rel_gap": 1e-9, "disp": False},
     )
+    if relax:
+        if res.status != 0 or res.x is None:
+            return IPResult(None, np.inf, 0.0, False, res.message)
+        return IPResult(res.x[:k], float(res.fun), float(res.fun), True, res.message)
     bound = float(getattr(res, "mip_dual_bound", np.nan) or 0.0)
     if res.x is None:
         if res.status == 2:
             raise SolverError("the integer program is infeasible; a street cannot be reached")
         return IPResult(None, np.inf, bound if np.isfinite(bound) else 0.0, False, res.message)
-    x = np.rint(res.x).astype(np.int64)
+    x = np.rint(res.x[:k]).astype(np.int64)
     optimal = res.status == 0
     objective = float(np.dot(mod.cost, x))
     if optimal:
@@ -192,7 +232,8 @@ def solve_arc_ip(
 def pieces_without_depot(
     p: ArcProblem, mod: ArcModel, x: np.ndarray, *, loops_required: np.ndarray
 ) -> list[np.ndarray]:
-    """Node sets of the solution's pieces that hold service but not the depot.
+    """Node sets to cut: the solution's pieces that hold service but not the depot,
+    and (when there are any) all nodes outside the depot's piece.
 
     ``loops_required`` marks nodes carrying a required loop segment (which
     the arc model leaves out).  O(n + m).
@@ -207,25 +248,57 @@ def pieces_without_depot(
     has_service[loops_required] = True
     comps = np.unique(label[has_service])
     depot_label = label[p.depot]
-    return [label == c for c in comps if c != depot_label]
+    sets = [label == c for c in comps if c != depot_label]
+    if len(sets) > 0:
+        # Also everything outside the depot's piece: some pass must leave it and so reach the
+        # depot's piece.  Stronger than the single pieces when the depot's piece is small.
+        outside = label != depot_label
+        if not any(np.array_equal(outside, s) for s in sets):
+            sets.append(outside)
+    return sets
 
 
 def orient_by_relaxation(p: ArcProblem, mod: ArcModel, x: np.ndarray) -> np.ndarray:
-    """Fix the direction of every free pass to the way the solution ``x`` leans.
+    """Fix the direction of every free pass, guided by a (fractional) solution ``x``.
 
-    Returns per-arc lower bounds (over ``p``'s arcs) with the fixed-direction
-    passes plus the newly fixed free passes.  Ties go forward.  O(m).
+    Passes on streets where ``x`` clearly leans one way go that way.  The
+    rest, where ``x`` is undecided (typically half each way round a block),
+    are oriented along Euler circuits of the undecided streets, so that they
+    balance each other and leave at most one pass of imbalance at the nodes
+    where an odd number of them meet (the idea of Frederickson's 1979
+    EvenParity step); minimum-cost flow then settles that imbalance.
+
+    Returns per-arc lower bounds (over ``p``'s arcs): the fixed-direction
+    passes plus the newly fixed free passes.  O(m).
     """
     lower = np.zeros(len(p.arc_seg), dtype=np.int64)
     lower[mod.arcs] = mod.lower
-    if len(mod.cover_segs):
-        xf = x[mod.cover_fwd]
-        xb = x[mod.cover_bwd]
-        extra = mod.cover_need - mod.lower[mod.cover_fwd] - mod.lower[mod.cover_bwd]
-        extra = np.maximum(extra, 0)
-        go_fwd = xf >= xb
-        lower[mod.arcs[mod.cover_fwd[go_fwd]]] += extra[go_fwd]
-        lower[mod.arcs[mod.cover_bwd[~go_fwd]]] += extra[~go_fwd]
+    if not len(mod.cover_segs):
+        return lower
+    xf = x[mod.cover_fwd]
+    xb = x[mod.cover_bwd]
+    extra = mod.cover_need - mod.lower[mod.cover_fwd] - mod.lower[mod.cover_bwd]
+    extra = np.maximum(extra, 0)
+    lean = xf - xb
+    go_fwd = lean > 0.25
+    go_bwd = lean < -0.25
+    lower[mod.arcs[mod.cover_fwd[go_fwd]]] += extra[go_fwd]
+    lower[mod.arcs[mod.cover_bwd[go_bwd]]] += extra[go_bwd]
+    tied = np.nonzero(~go_fwd & ~go_bwd & (extra > 0))[0]
+    if len(tied):
+        rep = np.repeat(tied, extra[tied])
+        segs = mod.cover_segs[rep]
+        u, v = p.tail[segs], p.head[segs]
+        # join the odd-degree nodes to one extra node so every degree is even, walk, drop it
+        deg = np.bincount(u, minlength=p.n_nodes) + np.bincount(v, minlength=p.n_nodes)
+        odd = np.nonzero(deg % 2 == 1)[0]
+        hub = p.n_nodes
+        uu = np.concatenate([u, odd])
+        vv = np.concatenate([v, np.full(len(odd), hub)])
+        direction = orient_even(p.n_nodes + 1, uu, vv)[: len(rep)]
+        fwd = direction > 0
+        np.add.at(lower, mod.arcs[mod.cover_fwd[rep[fwd]]], 1)
+        np.add.at(lower, mod.arcs[mod.cover_bwd[rep[~fwd]]], 1)
     return lower
 
 
