@@ -122,9 +122,7 @@ Coords = tuple[tuple[float, float], ...]
 
 def polyline_length(coords: Coords) -> float:
     """Planar length of a polyline in the units of its coordinates."""
-    return sum(
-        math.hypot(x1 - x0, y1 - y0) for (x0, y0), (x1, y1) in itertools.pairwise(coords)
-    )
+    return sum(math.hypot(x1 - x0, y1 - y0) for (x0, y0), (x1, y1) in itertools.pairwise(coords))
 
 
 @dataclass(frozen=True, slots=True)

@@ -7,18 +7,20 @@ two-way street has an arc each way, a one-way street one):
 * ``x_uv + x_vu >= q_e`` for a two-way street ``e`` whose ``q_e`` passes may
   go either way;
 * as many passes into every node as out of it;
-* optionally, connectivity cuts ``sum(x_a for a leaving S) >= 1`` for node
-  sets ``S`` that hold service but not the depot.
+* odd-degree cuts: at a node touched by an odd number of service passes, at
+  least one more pass (the single-node odd cuts of Nobert & Picard 1996);
+* optionally, cuts ``sum(x_a for a leaving S) >= 1`` for node sets ``S``
+  that hold service but not the depot, and a single-commodity connectivity
+  flow from the depot to every separate piece of service (Gavish & Graves
+  1978).
 
 Minimising ``sum(c_a x_a)`` gives the mixed Chinese postman optimum (the
 arc formulation of Christofides, Benavent, Campos, Corberán & Mota 1984 and
-Nobert & Picard 1996, without their odd-cut inequalities, which HiGHS's own
-cuts replace).  When the streets needing service and the depot are connected,
-every optimal solution is a connected Eulerian multigraph and so a circuit.
-When they are not (the rural postman problem), cuts are added for each
-disconnected piece of the current solution and the program solved again,
-until the solution is connected (exact) or the time budget runs out; each
-program solved to optimality is a relaxation and gives a valid lower bound.
+Nobert & Picard 1996).  When the streets needing service and the depot are
+connected, every optimal solution is a connected Eulerian multigraph and so
+a circuit.  When they are not (the rural postman problem), the connectivity
+flow makes every solution connected, so one solve is exact.  HiGHS's dual
+bound is a valid lower bound when the time budget runs out.
 
 Solved by :func:`scipy.optimize.milp` (HiGHS branch-and-cut).
 
@@ -31,6 +33,8 @@ Y. Nobert and J.-C. Picard, "An optimal algorithm for the mixed Chinese
 postman problem", Networks 27 (1996) 95–108.
 G. N. Frederickson, "Approximation algorithms for some postman problems",
 Journal of the ACM 26 (1979) 538–554.
+B. Gavish and S. C. Graves, "The travelling salesman problem and related
+problems", Working Paper OR 078-78, Operations Research Center, MIT (1978).
 """
 
 from __future__ import annotations
