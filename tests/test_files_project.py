@@ -195,7 +195,10 @@ def test_version_without_migration() -> None:
 @pytest.mark.parametrize(
     ("change", "words"),
     [
-        (lambda d: d["segments"][1].update(service="sideways"), "segments[1] (street s2)"),
+        (
+            lambda d: d["segments"][1].update(service="sideways"),
+            "segments[1] (street Net Lane (s2))",
+        ),
         (lambda d: d["segments"][0].update(end="nowhere"), "nowhere"),
         (lambda d: d["segments"][2].update(length=-1), "segments[2]"),
         (lambda d: d["segments"][3].update(service="along"), "one-way"),

@@ -235,7 +235,9 @@ def project_from_dict(doc: Any, *, source: str | None = None, name: str = "") ->
     for i, item in enumerate(segments):
         where = f"segments[{i}]"
         if isinstance(item, Mapping) and isinstance(item.get("id"), str):
-            where += f" (street {item['id']})"
+            name = item.get("name")
+            label = f"{name} ({item['id']})" if isinstance(name, str) and name else item["id"]
+            where += f" (street {label})"
         segment = _segment(item, where, fail)
         try:
             network.add_segment(segment)

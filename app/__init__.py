@@ -1,0 +1,1 @@
+"""Roundsman's window (PySide6).  Calls :mod:`core`; ``core`` never calls it."""
