@@ -100,7 +100,7 @@ def test_carp_required_edges_only_rural_case() -> None:
 
 def test_tjoin_matches_networkx_complete_graph_matching() -> None:
     # Reference: networkx.min_weight_matching on the complete graph of shortest-path distances
-    # between odd nodes, the textbook Edmonds & Johnson (1973) construction.  Lengths are
+    # between odd nodes, the classic Edmonds & Johnson (1973) construction.  Lengths are
     # random reals with millimetre resolution and many near-ties.
     import random
 

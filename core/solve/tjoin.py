@@ -4,7 +4,7 @@ Making the odd-degree nodes of a street graph even at least cost is the
 minimum T-join problem (T = the odd nodes).  Edmonds & Johnson (1973) solve it
 as a minimum-weight perfect matching on the complete graph of shortest-path
 distances between the nodes of T; that complete graph has |T|²/2 edges and
-is what makes the textbook pipeline slow at city scale.
+is what makes the classic pipeline slow at city scale.
 
 PyMatching's sparse blossom (Higgott & Gidney 2023) solves the *same*
 matching without ever building the complete graph: it grows regions over the
