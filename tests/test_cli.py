@@ -80,7 +80,7 @@ def test_plan_research_formats(
     path = BENCHMARKS / name
     if not path.exists():
         pytest.skip(f"benchmark file {path} is absent")
-    code, out, err = run_cli(
+    code, _out, err = run_cli(
         ["plan", str(path), "--one-circuit", "--out", str(tmp_path / "p.json")], capsys
     )
     assert code == 0, err
