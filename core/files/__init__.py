@@ -63,7 +63,7 @@ def _detect(text: str, source: str | None) -> tuple[str, Any]:
     if not stripped:
         raise InputError("the file is empty", source=source)
     if stripped[0] in "{[":
-        doc = load_json(stripped, source=source)
+        doc = load_json(text, source=source)  # unstripped, so line numbers stay true
         if isinstance(doc, dict):
             if doc.get("type") in ("FeatureCollection", "Feature"):
                 return "geojson", doc
