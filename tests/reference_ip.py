@@ -126,7 +126,9 @@ def reference_optimum(net: Network, depot: str, *, time_limit: float = 60.0) -> 
         constraints=[LinearConstraint(a.tocsr(), lo, hi)],
         integrality=integrality,
         bounds=Bounds(np.zeros(nv), ub),
-        options={"time_limit": time_limit, "mip_rel_gap": 0.0},
+        # presolve off: HiGHS 1.x in SciPy 1.17 returned a non-optimal "optimal" value on a
+        # small instance of this model with presolve on (found by the property tests).
+        options={"time_limit": time_limit, "mip_rel_gap": 0.0, "presolve": False},
     )
     if res.status != 0:
         raise RuntimeError(f"reference model not solved: {res.message}")

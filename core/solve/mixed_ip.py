@@ -214,7 +214,15 @@ def solve_arc_ip(
         constraints=cons,
         integrality=integrality,
         bounds=Bounds(lower, np.full(k + n_flow, np.inf)),
-        options={"time_limit": max(time_limit, 0.5), "mip_rel_gap": 1e-9, "disp": False},
+        # Presolve off: with it, the HiGHS in SciPy 1.17 proved wrong optima on small
+        # instances of this model (caught by tests/test_engine_reference.py against the
+        # independent integer program).
+        options={
+            "time_limit": max(time_limit, 0.5),
+            "mip_rel_gap": 1e-9,
+            "disp": False,
+            "presolve": False,
+        },
     )
     if relax:
         if res.status != 0 or res.x is None:
