@@ -16,6 +16,7 @@ import pytest
 from hypothesis import HealthCheck, given, note, settings
 from hypothesis import strategies as st
 
+from bench.synthetic import drivable_digraph
 from core.errors import UnreachableError
 from core.model import Network, Node, OneWay, Segment, Service
 from core.plan import Plan
@@ -72,14 +73,7 @@ def networks(draw: st.DrawFn, kind: str) -> Network:
 
 
 def strongly_connected(net: Network) -> bool:
-    g = nx.DiGraph()
-    g.add_nodes_from(net.nodes)
-    for s in net:
-        if s.oneway is not OneWay.BACKWARD:
-            g.add_edge(s.start, s.end)
-        if s.oneway is not OneWay.FORWARD:
-            g.add_edge(s.end, s.start)
-    return nx.is_strongly_connected(g)
+    return nx.is_strongly_connected(drivable_digraph(net))
 
 
 def describe(net: Network) -> str:
