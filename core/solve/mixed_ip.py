@@ -22,7 +22,7 @@ a circuit.  When they are not (the rural postman problem), the connectivity
 flow makes every solution connected, so one solve is exact.  HiGHS's dual
 bound is a valid lower bound when the time budget runs out.
 
-Solved by :func:`scipy.optimize.milp` (HiGHS branch-and-cut).
+Solved by HiGHS's branch-and-cut through ``highspy`` (see :mod:`core.solve.highs`).
 
 References
 ----------
@@ -44,10 +44,11 @@ from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
-from scipy.optimize import Bounds, LinearConstraint, milp
+from scipy.optimize import LinearConstraint
 from scipy.sparse.csgraph import connected_components
 
 from core.errors import SolverError
+from core.solve import highs
 from core.solve.arcs import ArcProblem
 from core.solve.euler import orient_even
 from core.solve.flow import incidence, min_cost_balance
@@ -208,37 +209,29 @@ def solve_arc_ip(
         cons.append(LinearConstraint(link, -np.inf, 0.0))
         lower = np.concatenate([lower, np.zeros(k)])
         cost = np.concatenate([cost, np.zeros(k)])
-    integrality = np.zeros(k + n_flow) if relax else np.concatenate([np.ones(k), np.zeros(n_flow)])
-    res = milp(
+    integer = np.zeros(k + n_flow, dtype=bool)
+    if not relax:
+        integer[:k] = True
+    res = highs.solve(
         cost,
-        constraints=cons,
-        integrality=integrality,
-        bounds=Bounds(lower, np.full(k + n_flow, np.inf)),
-        # Presolve off: with it, the HiGHS in SciPy 1.17 proved wrong optima on small
-        # instances of this model (caught by tests/test_engine_reference.py against the
-        # independent integer program).
-        options={
-            "time_limit": max(time_limit, 0.5),
-            "mip_rel_gap": 1e-9,
-            "disp": False,
-            "presolve": False,
-        },
+        sp.vstack([c.A for c in cons]).tocsc(),
+        np.concatenate([np.broadcast_to(c.lb, (c.A.shape[0],)) for c in cons]),
+        np.concatenate([np.broadcast_to(c.ub, (c.A.shape[0],)) for c in cons]),
+        lower,
+        np.full(k + n_flow, np.inf),
+        integer,
+        time_limit=time_limit,
     )
-    if relax:
-        if res.status != 0 or res.x is None:
-            return IPResult(None, np.inf, 0.0, False, res.message)
-        return IPResult(res.x[:k], float(res.fun), float(res.fun), True, res.message)
-    bound = float(getattr(res, "mip_dual_bound", np.nan) or 0.0)
+    if res.status == "infeasible":
+        raise SolverError("the integer program is infeasible; a street cannot be reached")
     if res.x is None:
-        if res.status == 2:
-            raise SolverError("the integer program is infeasible; a street cannot be reached")
-        return IPResult(None, np.inf, bound if np.isfinite(bound) else 0.0, False, res.message)
+        return IPResult(None, np.inf, res.bound, False, res.status)
+    if relax:
+        return IPResult(res.x[:k], res.objective, res.bound, res.optimal, res.status)
     x = np.rint(res.x[:k]).astype(np.int64)
-    optimal = res.status == 0
     objective = float(np.dot(mod.cost, x))
-    if optimal:
-        bound = max(bound, objective) if np.isfinite(bound) else objective
-    return IPResult(x, objective, bound if np.isfinite(bound) else 0.0, optimal, res.message)
+    bound = max(res.bound, objective) if res.optimal else res.bound
+    return IPResult(x, objective, bound, res.optimal, res.status)
 
 
 def pieces_without_depot(
