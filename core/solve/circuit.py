@@ -366,7 +366,8 @@ def _solve_pieces(
     ctx.check()
     # 2. Exact: the integer program with a connectivity flow from the depot to every piece.
     best_x: np.ndarray | None = None
-    if not ctx.heuristic_only and ctx.watch.left() > 0.5:
+    small = len(p.arc_seg) <= _IP_MAX_ARCS
+    if small and not ctx.heuristic_only and ctx.watch.left() > 0.5:
         ctx.say(f"linking {n_pieces} separate pieces of service", 0.3)
         depot_piece = label[p.depot]
         reach = np.array(
