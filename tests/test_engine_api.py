@@ -70,3 +70,39 @@ def test_along_on_a_two_way_street_is_refused_with_its_name() -> None:
     net.add_node(Node("1"))
     with pytest.raises(Exception, match="Mill Lane"):
         net.add_segment(Segment("a", "0", "1", length=5.0, name="Mill Lane", service=Service.ALONG))
+
+
+def test_highs_child_process_path_solves_and_cancels(monkeypatch: pytest.MonkeyPatch) -> None:
+    # The child-process path (used for large programs) must give the same answer as HiGHS
+    # in this process, and end at once when asked to stop.
+    import numpy as np
+    import scipy.sparse as sp
+
+    from core.solve import highs
+
+    monkeypatch.setattr(highs, "_IN_PROCESS_COLUMNS", 0)
+    # min x + 2y  s.t.  x + y >= 3.5, x <= 2, integers  ->  x = 2, y = 2, cost 6
+    a = sp.csr_matrix(np.array([[1.0, 1.0]]))
+    res = highs.solve(
+        np.array([1.0, 2.0]),
+        a,
+        np.array([3.5]),
+        np.array([np.inf]),
+        np.zeros(2),
+        np.array([2.0, np.inf]),
+        np.array([True, True]),
+        time_limit=10,
+    )
+    assert res.optimal and res.objective == pytest.approx(6.0)
+    with pytest.raises(Cancelled):
+        highs.solve(
+            np.array([1.0, 2.0]),
+            a,
+            np.array([3.5]),
+            np.array([np.inf]),
+            np.zeros(2),
+            np.array([2.0, np.inf]),
+            np.array([True, True]),
+            time_limit=10,
+            stop=lambda: True,
+        )

@@ -87,11 +87,14 @@ class _Ctx:
         if self.progress is not None:
             self.progress(what, fraction)
 
-    def check(self) -> None:
+    def stopped(self) -> bool:
         s = self.stop
         if s is None:
-            return
-        if s.is_set() if isinstance(s, threading.Event) else s():
+            return False
+        return s.is_set() if isinstance(s, threading.Event) else bool(s())
+
+    def check(self) -> None:
+        if self.stopped():
             raise Cancelled("planning was cancelled")
 
 
@@ -288,7 +291,9 @@ def _round_and_balance(
 ) -> tuple[np.ndarray, float]:
     """LP-guided orientation, then minimum-cost flow; returns passes and the LP value."""
     mod = arc_model(q, forced)
-    relax = solve_arc_ip(q, mod, time_limit=max(ctx.watch.left(), 5.0), relax=True)
+    relax = solve_arc_ip(
+        q, mod, time_limit=max(ctx.watch.left(), 5.0), relax=True, stop=ctx.stopped
+    )
     guide = relax.x if relax.x is not None else (guide_x if guide_x is not None else mod.lower)
     lower = orient_by_relaxation(q, mod, np.asarray(guide, dtype=np.float64))
     if forced is not None:
@@ -324,7 +329,7 @@ def _mixed(
     if ctx.heuristic_only or not small or ctx.watch.left() < 0.5:
         return x, bound, False, method
     mod = arc_model(p, forced)
-    res = solve_arc_ip(p, mod, time_limit=min(budget, ctx.watch.left()))
+    res = solve_arc_ip(p, mod, time_limit=min(budget, ctx.watch.left()), stop=ctx.stopped)
     if res.x is not None:
         cand = loops.copy()
         cand[mod.arcs] += res.x
@@ -377,7 +382,9 @@ def _solve_pieces(
         # Cuts around each piece and around the depot's piece are implied by the flow but
         # tighten its weak linear relaxation (the flow's big-M links).
         cuts = [label == c for c in range(n_pieces)]
-        res = solve_arc_ip(p, mod, reach=reach, cuts=cuts, time_limit=ctx.watch.left() * 0.8)
+        res = solve_arc_ip(
+            p, mod, reach=reach, cuts=cuts, time_limit=ctx.watch.left() * 0.8, stop=ctx.stopped
+        )
         bound = max(bound, res.bound)
         if res.x is not None:
             best_x = loops.copy()

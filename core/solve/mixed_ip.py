@@ -40,6 +40,7 @@ problems", Working Paper OR 078-78, Operations Research Center, MIT (1978).
 from __future__ import annotations
 
 import time
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -168,6 +169,7 @@ def solve_arc_ip(
     reach: np.ndarray | None = None,
     time_limit: float = 30.0,
     relax: bool = False,
+    stop: Callable[[], bool] | None = None,
 ) -> IPResult:
     """Solve the arc formulation (or its LP relaxation with ``relax=True``).
 
@@ -221,6 +223,7 @@ def solve_arc_ip(
         np.full(k + n_flow, np.inf),
         integer,
         time_limit=time_limit,
+        stop=stop,
     )
     if res.status == "infeasible":
         raise SolverError("the integer program is infeasible; a street cannot be reached")
