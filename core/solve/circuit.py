@@ -48,6 +48,7 @@ from core.solve.mixed_ip import (
     Stopwatch,
     arc_model,
     balance_fixed,
+    flow_relaxation,
     orient_by_relaxation,
     pieces_without_depot,
     solve_arc_ip,
@@ -294,7 +295,12 @@ def _round_and_balance(
     relax = solve_arc_ip(
         q, mod, time_limit=max(ctx.watch.left(), 5.0), relax=True, stop=ctx.stopped
     )
-    guide = relax.x if relax.x is not None else (guide_x if guide_x is not None else mod.lower)
+    if relax.x is not None:
+        guide = relax.x
+    elif guide_x is not None:
+        guide = guide_x
+    else:  # the LP ran out of time (very large towns): a min-cost-flow relaxation guides
+        guide = flow_relaxation(q, mod)
     lower = orient_by_relaxation(q, mod, np.asarray(guide, dtype=np.float64))
     if forced is not None:
         lower = np.maximum(lower, forced)

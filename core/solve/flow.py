@@ -49,6 +49,8 @@ def min_cost_balance(
     arc_to: np.ndarray,
     cost: np.ndarray,
     excess_in: np.ndarray,
+    *,
+    free_capacity: np.ndarray | None = None,
 ) -> np.ndarray:
     """Extra passes per arc that balance every node at least cost.
 
@@ -60,11 +62,14 @@ def min_cost_balance(
         The drivable arcs (no loops) and their lengths.
     excess_in
         Per node, passes in minus passes out of the fixed (service) passes.
+    free_capacity
+        Optionally, per arc, how many units it may carry at no cost before its
+        length counts (used for passes whose direction is still free).
 
     Returns
     -------
     numpy.ndarray
-        Integer number of deadhead passes per arc.
+        Integer number of passes per arc.
 
     Raises
     ------
@@ -83,12 +88,20 @@ def min_cost_balance(
     weights, _unit = integer_weights(np.asarray(cost, dtype=np.float64))
     flow = min_cost_flow.SimpleMinCostFlow()
     cap = int(np.abs(excess).sum())  # no arc ever needs to carry more than all the surplus
+    frm = arc_from.astype(np.int32)
+    to = arc_to.astype(np.int32)
     flow.add_arcs_with_capacity_and_unit_cost(
-        arc_from.astype(np.int32),
-        arc_to.astype(np.int32),
-        np.full(k, cap, dtype=np.int64),
-        weights.astype(np.int64),
+        frm, to, np.full(k, cap, dtype=np.int64), weights.astype(np.int64)
     )
+    free = np.zeros(0, dtype=np.int64)
+    if free_capacity is not None:
+        free = np.nonzero(free_capacity > 0)[0]
+        flow.add_arcs_with_capacity_and_unit_cost(
+            frm[free],
+            to[free],
+            free_capacity[free].astype(np.int64),
+            np.zeros(len(free), dtype=np.int64),
+        )
     flow.set_nodes_supplies(np.arange(n_nodes, dtype=np.int32), excess)
     status = flow.solve()
     if status != flow.OPTIMAL:
@@ -97,6 +110,8 @@ def min_cost_balance(
             f"(min-cost flow status {status})"
         )
     result = np.asarray(flow.flows(np.arange(k)), dtype=np.int64)
+    if len(free):
+        result[free] += np.asarray(flow.flows(np.arange(k, k + len(free))), dtype=np.int64)
     if not np.array_equal(incidence(n_nodes, arc_from, arc_to) @ result, excess):
         raise SolverError("the balancing flow does not balance every junction; this is a bug")
     return result
