@@ -83,7 +83,7 @@ def test_highs_child_process_path_solves_and_cancels(monkeypatch: pytest.MonkeyP
     monkeypatch.setattr(highs, "_IN_PROCESS_COLUMNS", 0)
     # min x + 2y  s.t.  x + y >= 3.5, x <= 2, integers  ->  x = 2, y = 2, cost 6
     a = sp.csr_matrix(np.array([[1.0, 1.0]]))
-    res = highs.solve(
+    program = (
         np.array([1.0, 2.0]),
         a,
         np.array([3.5]),
@@ -91,18 +91,8 @@ def test_highs_child_process_path_solves_and_cancels(monkeypatch: pytest.MonkeyP
         np.zeros(2),
         np.array([2.0, np.inf]),
         np.array([True, True]),
-        time_limit=10,
     )
+    res = highs.solve(*program, time_limit=10)
     assert res.optimal and res.objective == pytest.approx(6.0)
     with pytest.raises(Cancelled):
-        highs.solve(
-            np.array([1.0, 2.0]),
-            a,
-            np.array([3.5]),
-            np.array([np.inf]),
-            np.zeros(2),
-            np.array([2.0, np.inf]),
-            np.array([True, True]),
-            time_limit=10,
-            stop=lambda: True,
-        )
+        highs.solve(*program, time_limit=10, stop=lambda: True)
