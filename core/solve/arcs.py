@@ -60,6 +60,36 @@ class ArcProblem:
         passes = self.need_fwd + self.need_bwd + self.need_any
         return float(np.dot(passes, self.length))
 
+    def segment_arcs(self) -> tuple[np.ndarray, np.ndarray]:
+        """Per segment, the index of its forward and its backward arc (-1 where the
+        segment cannot be driven that way).  O(m)."""
+        fwd = np.full(self.n_segments, -1, dtype=np.int64)
+        bwd = np.full(self.n_segments, -1, dtype=np.int64)
+        k = np.arange(len(self.arc_seg))
+        fwd[self.arc_seg[self.arc_dir > 0]] = k[self.arc_dir > 0]
+        bwd[self.arc_seg[self.arc_dir < 0]] = k[self.arc_dir < 0]
+        return fwd, bwd
+
+    def non_loop_arcs(self) -> np.ndarray:
+        """Indices of the arcs between two different nodes (the ones balancing uses)."""
+        return np.nonzero(self.arc_from != self.arc_to)[0]
+
+    def fixed_lower(self) -> np.ndarray:
+        """Per arc, the service passes whose direction is fixed; 0 on loops, whose
+        passes need no balancing."""
+        seg = self.arc_seg
+        lower = np.where(self.arc_dir > 0, self.need_fwd[seg], self.need_bwd[seg])
+        return np.where(self.arc_from != self.arc_to, lower, 0).astype(np.int64)
+
+    def service_degree(self) -> np.ndarray:
+        """Per node, the service passes that start or end there (loops aside, as they
+        add two and never change parity)."""
+        passes = np.where(self.tail != self.head, self.need_fwd + self.need_bwd + self.need_any, 0)
+        deg = np.bincount(self.tail, weights=passes, minlength=self.n_nodes) + np.bincount(
+            self.head, weights=passes, minlength=self.n_nodes
+        )
+        return deg.astype(np.int64)
+
     def kind(self) -> str:
         """``"undirected"``, ``"directed"`` or ``"mixed"``: which exact method fits.
 

@@ -45,7 +45,6 @@ from core.solve.arcs import ArcProblem, compile_network
 from core.solve.connect import linking_arcs, required_pieces
 from core.solve.euler import euler_circuit, orient_even
 from core.solve.mixed_ip import (
-    Stopwatch,
     arc_model,
     balance_fixed,
     flow_relaxation,
@@ -73,6 +72,17 @@ beyond it HiGHS does not close the gap within minutes, and the heuristics' gap i
 
 
 STRATEGIES = ("auto", "heuristic")
+
+
+class Stopwatch:
+    """Seconds left of a budget."""
+
+    def __init__(self, budget: float) -> None:
+        self.t0 = time.perf_counter()
+        self.budget = budget
+
+    def left(self) -> float:
+        return self.budget - (time.perf_counter() - self.t0)
 
 
 class _Ctx:
@@ -185,35 +195,18 @@ def plan_circuit(
 
 
 # -- the connected case ---------------------------------------------------------------------------
-def _segment_arcs(p: ArcProblem) -> tuple[np.ndarray, np.ndarray]:
-    """Per segment, the index of its forward and backward arc (-1 if not drivable that way)."""
-    fwd = np.full(p.n_segments, -1, dtype=np.int64)
-    bwd = np.full(p.n_segments, -1, dtype=np.int64)
-    k = np.arange(len(p.arc_seg))
-    fwd[p.arc_seg[p.arc_dir > 0]] = k[p.arc_dir > 0]
-    bwd[p.arc_seg[p.arc_dir < 0]] = k[p.arc_dir < 0]
-    return fwd, bwd
-
-
 def _loop_passes(p: ArcProblem) -> np.ndarray:
     """Per arc, the service passes of loop segments (which no balancing needs)."""
     x = np.zeros(len(p.arc_seg), dtype=np.int64)
     loops = np.nonzero((p.tail == p.head) & p.required)[0]
     if len(loops):
-        fwd, bwd = _segment_arcs(p)
+        fwd, bwd = p.segment_arcs()
         f, b = fwd[loops], bwd[loops]
         # each pass goes round the loop the way its requirement says; free passes go forward
         # where allowed.  A one-way loop has only one arc and its needs are all on it.
         x[np.where(f >= 0, f, b)] += p.need_fwd[loops] + p.need_any[loops]
         x[np.where(b >= 0, b, f)] += p.need_bwd[loops]
     return x
-
-
-def _fixed_lower(p: ArcProblem) -> np.ndarray:
-    """Per arc, the service passes whose direction is fixed (non-loop segments)."""
-    lower = np.where(p.arc_dir > 0, p.need_fwd[p.arc_seg], p.need_bwd[p.arc_seg]).astype(np.int64)
-    lower[p.tail[p.arc_seg] == p.head[p.arc_seg]] = 0
-    return lower
 
 
 def _undirected(p: ArcProblem, forced: np.ndarray | None) -> np.ndarray:
@@ -237,15 +230,15 @@ def _undirected(p: ArcProblem, forced: np.ndarray | None) -> np.ndarray:
     dirs = orient_even(p.n_nodes, p.tail[rep], p.head[rep])
     fwd_n = np.bincount(rep[dirs > 0], minlength=p.n_segments)
     bwd_n = np.bincount(rep[dirs < 0], minlength=p.n_segments)
-    fwd, bwd = _segment_arcs(p)
-    x = _fixed_lower(p) + _loop_passes(p)
+    fwd, bwd = p.segment_arcs()
+    x = p.fixed_lower() + _loop_passes(p)
     np.add.at(x, fwd[fwd_n > 0], fwd_n[fwd_n > 0])
     np.add.at(x, bwd[bwd_n > 0], bwd_n[bwd_n > 0])
     return x
 
 
 def _directed(p: ArcProblem, forced: np.ndarray | None) -> np.ndarray:
-    lower = _fixed_lower(p)
+    lower = p.fixed_lower()
     if forced is not None:
         lower = np.maximum(lower, forced)
     return balance_fixed(p, lower) + _loop_passes(p)
@@ -254,11 +247,7 @@ def _directed(p: ArcProblem, forced: np.ndarray | None) -> np.ndarray:
 def parity_join(p: ArcProblem) -> np.ndarray:
     """Segments of a shortest T-join of the street graph with directions ignored, where T
     is the nodes touched by an odd number of service passes (loops aside)."""
-    q = np.where(p.tail != p.head, p.need_fwd + p.need_bwd + p.need_any, 0)
-    deg = np.bincount(p.tail, weights=q, minlength=p.n_nodes) + np.bincount(
-        p.head, weights=q, minlength=p.n_nodes
-    )
-    return min_tjoin(p.n_nodes, p.tail, p.head, p.length, deg.astype(np.int64) % 2 == 1)
+    return min_tjoin(p.n_nodes, p.tail, p.head, p.length, p.service_degree() % 2 == 1)
 
 
 def parity_bound(p: ArcProblem, join: np.ndarray | None = None) -> float:
@@ -288,19 +277,15 @@ def _with_join(p: ArcProblem, join: np.ndarray) -> ArcProblem:
 
 
 def _round_and_balance(
-    q: ArcProblem, forced: np.ndarray | None, ctx: _Ctx, guide_x: np.ndarray | None = None
+    q: ArcProblem, forced: np.ndarray | None, ctx: _Ctx
 ) -> tuple[np.ndarray, float]:
     """LP-guided orientation, then minimum-cost flow; returns passes and the LP value."""
     mod = arc_model(q, forced)
     relax = solve_arc_ip(
         q, mod, time_limit=max(ctx.watch.left(), 5.0), relax=True, stop=ctx.stopped
     )
-    if relax.x is not None:
-        guide = relax.x
-    elif guide_x is not None:
-        guide = guide_x
-    else:  # the LP ran out of time (very large towns): a min-cost-flow relaxation guides
-        guide = flow_relaxation(q, mod)
+    # where the LP ran out of time (very large towns) a min-cost-flow relaxation guides
+    guide = relax.x if relax.x is not None else flow_relaxation(q, mod)
     lower = orient_by_relaxation(q, mod, np.asarray(guide, dtype=np.float64))
     if forced is not None:
         lower = np.maximum(lower, forced)

@@ -178,24 +178,14 @@ def solve(
     Cancelled
         When ``stop()`` returned true.
     """
+    args = (cost, sp.csc_matrix(a), row_lower, row_upper, col_lower, col_upper, integer)
+    kwargs = {"time_limit": time_limit, "mip_rel_gap": mip_rel_gap}
     if len(cost) <= _IN_PROCESS_COLUMNS:
-        return _solve_here(
-            cost,
-            a,
-            row_lower,
-            row_upper,
-            col_lower,
-            col_upper,
-            integer,
-            time_limit=time_limit,
-            mip_rel_gap=mip_rel_gap,
-        )
+        return _solve_here(*args, **kwargs)
     methods = mp.get_all_start_methods()
     method = "fork" if "fork" in methods and threading.active_count() == 1 else "spawn"
     ctx = mp.get_context(method)
     receiver, sender = ctx.Pipe(duplex=False)
-    args = (cost, sp.csc_matrix(a), row_lower, row_upper, col_lower, col_upper, integer)
-    kwargs = {"time_limit": time_limit, "mip_rel_gap": mip_rel_gap}
     proc = ctx.Process(target=_child, args=(sender, args, kwargs), daemon=True)
     proc.start()
     sender.close()

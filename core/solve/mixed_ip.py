@@ -39,7 +39,6 @@ problems", Working Paper OR 078-78, Operations Research Center, MIT (1978).
 
 from __future__ import annotations
 
-import time
 from collections.abc import Callable
 from dataclasses import dataclass
 
@@ -72,18 +71,15 @@ class ArcModel:
 
 def arc_model(p: ArcProblem, extra_lower: np.ndarray | None = None) -> ArcModel:
     """Collect the arcs and bounds of the arc formulation.  O(m)."""
-    not_loop = p.tail[p.arc_seg] != p.head[p.arc_seg]
-    arcs = np.nonzero(not_loop)[0]
+    arcs = p.non_loop_arcs()
     seg = p.arc_seg[arcs]
-    d = p.arc_dir[arcs]
-    lower = np.where(d > 0, p.need_fwd[seg], p.need_bwd[seg]).astype(np.int64)
+    lower = p.fixed_lower()[arcs]
     if extra_lower is not None:
         lower = np.maximum(lower, extra_lower[arcs])
     # segments with free-direction passes are two-way: both arcs are in the model
-    pos_f = np.full(p.n_segments, -1, dtype=np.int64)
-    pos_b = np.full(p.n_segments, -1, dtype=np.int64)
-    pos_f[seg[d > 0]] = np.nonzero(d > 0)[0]
-    pos_b[seg[d < 0]] = np.nonzero(d < 0)[0]
+    position = np.full(len(p.arc_seg), -1, dtype=np.int64)
+    position[arcs] = np.arange(len(arcs))
+    fwd, bwd = p.segment_arcs()
     cover = np.nonzero((p.need_any > 0) & (p.tail != p.head))[0]
     need = p.need_any[cover] + p.need_fwd[cover] + p.need_bwd[cover]
     return ArcModel(
@@ -94,8 +90,8 @@ def arc_model(p: ArcProblem, extra_lower: np.ndarray | None = None) -> ArcModel:
         lower=lower,
         cover_segs=cover,
         cover_need=need,
-        cover_fwd=pos_f[cover],
-        cover_bwd=pos_b[cover],
+        cover_fwd=position[fwd[cover]],
+        cover_bwd=position[bwd[cover]],
     )
 
 
@@ -110,12 +106,7 @@ class IPResult:
 
 def _odd_degree_rows(p: ArcProblem, mod: ArcModel):
     """Rows ``sum(x_a for a touching v) >= d_v + 1`` for nodes of odd service degree ``d_v``."""
-    passes = p.need_fwd + p.need_bwd + p.need_any
-    non_loop = p.tail != p.head
-    deg = np.bincount(p.tail[non_loop], weights=passes[non_loop], minlength=p.n_nodes) + (
-        np.bincount(p.head[non_loop], weights=passes[non_loop], minlength=p.n_nodes)
-    )
-    deg = deg.astype(np.int64)
+    deg = p.service_degree()
     odd_nodes = np.nonzero(deg % 2 == 1)[0]
     row_of = np.full(p.n_nodes, -1, dtype=np.int64)
     row_of[odd_nodes] = np.arange(len(odd_nodes))
@@ -356,7 +347,7 @@ def balance_fixed(p: ArcProblem, lower: np.ndarray) -> np.ndarray:
     Exact for the directed problem (minimum-cost flow, see
     :mod:`core.solve.flow`).
     """
-    mod_arcs = np.nonzero(p.tail[p.arc_seg] != p.head[p.arc_seg])[0]
+    mod_arcs = p.non_loop_arcs()
     frm = p.arc_from[mod_arcs]
     to = p.arc_to[mod_arcs]
     low = lower[mod_arcs]
@@ -367,14 +358,3 @@ def balance_fixed(p: ArcProblem, lower: np.ndarray) -> np.ndarray:
     total = lower.copy()
     total[mod_arcs] += extra
     return total
-
-
-class Stopwatch:
-    """Seconds left of a budget."""
-
-    def __init__(self, budget: float) -> None:
-        self.t0 = time.perf_counter()
-        self.budget = budget
-
-    def left(self) -> float:
-        return self.budget - (time.perf_counter() - self.t0)
