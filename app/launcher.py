@@ -16,6 +16,10 @@ def main(argv: Sequence[str] | None = None) -> int:
         from app.main import run_window
 
         return run_window()
+    if args[0] == "card":  # drawing needs Qt, so the card command lives in app
+        from app.card.cli import main as card_main
+
+        return card_main(args[1:])
     from core.cli import main as cli_main
 
     return cli_main(args)

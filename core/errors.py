@@ -95,6 +95,15 @@ class SolverError(RoundsmanError):
     """A solver failed for a reason that is not the user's input."""
 
 
+class ActivityError(RoundsmanError):
+    """An activity name or setting that is not valid; the message lists the choices."""
+
+
+class FleetError(RoundsmanError):
+    """Fleet settings that cannot be planned (bad capacity, unknown depot, a street
+    heavier than a full load...); the message names the vehicle, node or street."""
+
+
 class Cancelled(RoundsmanError):
     """A long computation was stopped on request."""
 

@@ -29,3 +29,20 @@ def atomic_write_text(path: str | os.PathLike[str], text: str, encoding: str = "
         with contextlib.suppress(FileNotFoundError):
             os.unlink(tmp)
         raise
+
+
+def atomic_write_bytes(path: str | os.PathLike[str], data: bytes) -> None:
+    """Write ``data`` to ``path`` atomically (temporary file + rename)."""
+    target = Path(path)
+    folder = target.parent if str(target.parent) else Path(".")
+    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, target)
+    except BaseException:
+        with contextlib.suppress(FileNotFoundError):
+            os.unlink(tmp)
+        raise

@@ -1,0 +1,150 @@
+"""``roundsman card``: the route card as a PDF, without the window.
+
+``roundsman card INPUT [--depot NODE] --pdf CARD.pdf [--page A4|Letter]
+[--activity NAME] [--start HH:MM] [--drive right|left] [--plan PLAN.json]
+[--route NAME] [--day TEXT] [--vehicle TEXT]``
+
+Plans the circuit as ``roundsman plan`` does (or reads a saved plan file with
+``--plan``), turns it into directions and draws the card.  This lives in
+``app`` because drawing needs Qt, which ``core`` never imports;
+:mod:`app.launcher` hands ``card`` command lines here.  Qt runs offscreen when
+there is no display.  Errors are one line with exit status 2, as in
+:mod:`core.cli`.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+from collections.abc import Sequence
+
+from core.cli import (
+    EXIT_ERROR,
+    add_route_options,
+    directions_for,
+    load_network,
+    plan_with_options,
+    resolve_depot,
+)
+from core.errors import RoundsmanError
+
+_APP: object = None
+
+
+def build_parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(
+        prog="roundsman card",
+        description="Plan the circuit and write the crew's route card as a PDF.",
+    )
+    p.add_argument("input", help="network file (any format roundsman plan reads)")
+    p.add_argument("--pdf", required=True, metavar="CARD.pdf", help="the PDF file to write")
+    p.add_argument("--page", default="A4", help="paper size: A4 or Letter, portrait (default A4)")
+    p.add_argument(
+        "--depot",
+        help="depot: a node id, X,Y or lonlat:LON,LAT (snapped); default: the file's depot",
+    )
+    p.add_argument(
+        "--plan",
+        metavar="PLAN.json",
+        help="use a plan written by 'roundsman plan' instead of planning again",
+    )
+    add_route_options(p)
+    p.add_argument("--route", default="", help="route name printed on the card")
+    p.add_argument("--day", default="", help="date or weekday printed on the card")
+    p.add_argument("--vehicle", default="", help="vehicle printed on the card")
+    p.add_argument(
+        "--snap",
+        type=float,
+        default=0.5,
+        metavar="M",
+        help="GeoJSON: join line ends closer than this many metres (default 0.5)",
+    )
+    p.add_argument(
+        "--time-limit",
+        type=float,
+        default=30.0,
+        metavar="S",
+        help="seconds the integer programs may use (default 30)",
+    )
+    p.add_argument(
+        "--strategy",
+        choices=("auto", "heuristic"),
+        default="auto",
+        help="auto: exact where the time allows (default); heuristic: skip the integer programs",
+    )
+    return p
+
+
+def ensure_gui_app() -> object:
+    """A QGuiApplication for drawing; offscreen when the machine has no display."""
+    if not (os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY")):
+        os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+    from PySide6.QtGui import QGuiApplication
+
+    global _APP
+    app = QGuiApplication.instance()
+    if app is None:
+        # Kept for the life of the process: Qt's application object must outlive
+        # every paint device, and Python must not collect it early.
+        _APP = app = QGuiApplication(["roundsman"])
+    return app
+
+
+def _run(args: argparse.Namespace) -> int:
+    from app.card.render import check_page_size, write_card_pdf
+    from core.activity import activity_preset
+    from core.card import build_card
+    from core.turns import parse_drive_side
+
+    page = check_page_size(args.page)
+    activity_preset(args.activity)
+    parse_drive_side(args.drive)
+    network = load_network(args)
+    if network.meta.get("capacity") or network.meta.get("vehicles"):
+        print(
+            "Note: this file states vehicles or capacity; the card shows one circuit "
+            "from the depot over every street that needs service.",
+            file=sys.stderr,
+        )
+    if args.plan:
+        from core.files._jsonio import load_json, read_text, source_label
+        from core.files.plan_json import plan_from_dict
+
+        source = source_label(args.plan)
+        plan = plan_from_dict(load_json(read_text(args.plan), source=source), source=source)
+        if args.depot is not None and resolve_depot(network, args.depot) != plan.depot:
+            raise RoundsmanError(
+                f"--depot {args.depot} differs from the plan file's depot {plan.depot}"
+            )
+    else:
+        depot = resolve_depot(network, args.depot)
+        plan = plan_with_options(network, depot, args)
+    directions = directions_for(network, plan, args)
+    content = build_card(network, directions, route=args.route, day=args.day, vehicle=args.vehicle)
+    ensure_gui_app()
+    pages = write_card_pdf(content, args.pdf, page)
+    print(
+        f"Route card written to {args.pdf}: {pages} pages, "
+        f"{len(content.rows)} instructions, {content.totals.total}"
+    )
+    return 0
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    args = build_parser().parse_args(list(sys.argv[2:] if argv is None else argv))
+    try:
+        return _run(args)
+    except RoundsmanError as exc:
+        print(f"roundsman card: error: {exc}", file=sys.stderr)
+        return EXIT_ERROR
+    except OSError as exc:
+        name = getattr(exc, "filename", None)
+        print(
+            f"roundsman card: error: {name + ': ' if name else ''}{exc.strerror or exc}",
+            file=sys.stderr,
+        )
+        return EXIT_ERROR
+    except KeyboardInterrupt:
+        print("roundsman card: stopped", file=sys.stderr)
+        return 130
