@@ -230,10 +230,11 @@ def parse_clock(value: str | dt.time | dt.datetime | None) -> dt.datetime | None
 
 
 def _clock(start: dt.datetime | None, seconds: float) -> str:
-    if start is None:
-        return ""
     # To the nearest minute (half a minute rounds up).
     minutes = math.floor(seconds / 60.0 + 0.5)
+    if start is None:
+        # No departure time: the time since leaving, so the crew can still pace the route.
+        return f"+{minutes // 60}:{minutes % 60:02d}"
     return (start + dt.timedelta(minutes=minutes)).strftime("%H:%M")
 
 

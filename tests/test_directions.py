@@ -215,6 +215,9 @@ def test_service_changes_and_clock_times() -> None:
     assert [r.clock for r in rows] == ["06:00", "06:08", "06:10", "06:17"]
     assert d.total_s == pytest.approx((7.5 + 2.4 + 7.5) * 60)
     assert d.service_m == pytest.approx(2000.0) and d.deadhead_m == pytest.approx(1000.0)
+    # Without a departure time the rows show the time since leaving (same arithmetic).
+    elapsed = build_directions(net, steps, activity=SWEEPING).instructions
+    assert [r.clock for r in elapsed] == ["+0:00", "+0:08", "+0:10", "+0:17"]
 
 
 def test_street_speed_overrides_deadhead_and_caps_service() -> None:
