@@ -44,7 +44,7 @@ SALT = json.dumps(
 
 
 def test_formats_tuple() -> None:
-    assert FORMATS == ("geojson", "project", "carplib", "salt-spreading")
+    assert FORMATS == ("geojson", "project", "carplib", "salt-spreading", "geopackage", "osm")
 
 
 def test_detect_from_content() -> None:

@@ -13,11 +13,18 @@ name's extension):
     CARPLIB ``.dat`` arc routing instances, see :mod:`core.files.carplib`.
 ``"salt-spreading"``
     Salt-spreading JSON instances, see :mod:`core.files.saltspread`.
+``"geopackage"``
+    OGC GeoPackage line layers, see :mod:`core.files.gpkg` (binary; read by
+    :func:`read_network` only).
+``"osm"``
+    OpenStreetMap ``.osm`` XML (also gzip/bzip2-compressed) and ``.osm.pbf``,
+    see :mod:`core.files.osm` (read by :func:`read_network` only).
 """
 
 from __future__ import annotations
 
 import os
+from collections.abc import Iterable
 from pathlib import Path
 from typing import Any
 
@@ -29,7 +36,14 @@ from core.files.project import FORMAT_NAME, project_from_dict, save_project
 from core.files.saltspread import parse_saltspread
 from core.model import Network
 
-FORMATS: tuple[str, ...] = ("geojson", "project", "carplib", "salt-spreading")
+FORMATS: tuple[str, ...] = (
+    "geojson",
+    "project",
+    "carplib",
+    "salt-spreading",
+    "geopackage",
+    "osm",
+)
 """The formats :func:`read_network` reads."""
 
 WRITE_FORMATS: tuple[str, ...] = ("project", "geojson")
@@ -40,7 +54,12 @@ FORMAT_LABELS: dict[str, str] = {
     "project": "Roundsman project",
     "carplib": "CARPLIB .dat",
     "salt-spreading": "salt-spreading JSON",
+    "geopackage": "GeoPackage",
+    "osm": "OpenStreetMap XML/PBF",
 }
+
+_FILE_FORMATS = ("geopackage", "osm")
+"""Formats read from the file itself (binary, or streamed), not from its text."""
 
 __all__ = [
     "FORMATS",
@@ -126,6 +145,11 @@ def parse_network(
         raise InputError(
             f"unknown format {fmt!r}; Roundsman reads {', '.join(FORMATS)}", source=source
         )
+    if fmt in _FILE_FORMATS:
+        raise InputError(
+            f"{FORMAT_LABELS[fmt]} is read from a file (read_network), not from text",
+            source=source,
+        )
     if fmt is None:
         fmt, doc = _detect(text, source)
     elif not text.strip():
@@ -148,11 +172,19 @@ def read_network(
     *,
     fmt: str | None = None,
     snap_tolerance: float = DEFAULT_SNAP_TOLERANCE,
+    layer: str | None = None,
+    highways: Iterable[str] | None = None,
+    on_error: str = "reject",
 ) -> Network:
     """Read a street network file in any of :data:`FORMATS`.
 
-    The file is read as UTF-8 and its format recognised from the content
-    unless ``fmt`` names it.
+    GeoPackage and OpenStreetMap files are recognised by their first bytes
+    (the SQLite header with the GeoPackage application id; an OSMHeader PBF
+    block or an ``<osm>`` XML element); other files are read as UTF-8 and
+    their format recognised from the content, unless ``fmt`` names it.
+    ``layer`` picks the GeoPackage layer, ``highways`` the OpenStreetMap
+    highway classes, and ``on_error`` (``"reject"`` or ``"skip"``) what both
+    do with broken features; the text formats ignore them.
 
     Raises
     ------
@@ -162,6 +194,22 @@ def read_network(
     UnknownFormatError
         The content matches none of the formats.
     """
+    if fmt is not None and fmt not in FORMATS:
+        raise InputError(
+            f"unknown format {fmt!r}; Roundsman reads {', '.join(FORMATS)}",
+            source=source_label(path),
+        )
+    binary = fmt if fmt in _FILE_FORMATS else None
+    if fmt is None:
+        binary = _sniff_file(path)
+    if binary == "geopackage":
+        from core.files.gpkg import read_gpkg
+
+        return read_gpkg(path, layer=layer, on_error=on_error, snap_tolerance=snap_tolerance)
+    if binary == "osm":
+        from core.files.osm import read_osm
+
+        return read_osm(path, highways=highways, on_error=on_error)
     text = read_text(path)
     return parse_network(
         text,
@@ -170,6 +218,23 @@ def read_network(
         name=Path(path).stem,
         snap_tolerance=snap_tolerance,
     )
+
+
+def _sniff_file(path: str | os.PathLike[str]) -> str | None:
+    """``"geopackage"`` or ``"osm"`` when the first bytes say so, else ``None``."""
+    from core.files.gpkg import sniff_gpkg
+    from core.files.osm import sniff_osm_file
+
+    try:
+        with open(path, "rb") as handle:
+            head = handle.read(100)
+        if sniff_gpkg(head):
+            return "geopackage"
+        if sniff_osm_file(path) is not None:
+            return "osm"
+    except OSError:
+        return None  # read_text names the problem
+    return None
 
 
 def write_network(network: Network, path: str | os.PathLike[str], fmt: str = "project") -> None:

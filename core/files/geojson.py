@@ -48,6 +48,7 @@ from pathlib import Path
 from typing import Any
 
 import numpy as np
+import pyproj
 import shapely
 
 from core import geo
@@ -243,11 +244,34 @@ def _declared_crs(doc: Mapping[str, Any], source: str | None) -> str | None:
         )
     if not isinstance(crs_name, str):
         raise InputError(f'the "crs" name {crs_name!r} is not text', source=source)
-    try:
-        geo.is_geographic(crs_name)
-    except InputError as exc:
-        raise InputError(exc.message, source=source) from None
+    check_earth_crs(crs_name, source)
     return crs_name
+
+
+def check_earth_crs(crs: str, source: str | None) -> None:
+    """Refuse a CRS that pyproj does not know, or that is not a geographic or
+    projected CRS convertible to WGS 84 (an engineering, geocentric or other
+    planet's CRS cannot place streets on the map)."""
+    try:
+        parsed = pyproj.CRS.from_user_input(crs)
+    except pyproj.exceptions.CRSError as exc:
+        raise InputError(
+            f"the coordinate reference system {crs!r} is not known: {exc}", source=source
+        ) from None
+    if not (parsed.is_geographic or parsed.is_projected) or parsed.is_geocentric:
+        raise InputError(
+            f"the coordinate reference system {parsed.name!r} is neither longitude/latitude "
+            "nor a map projection, so the streets cannot be placed on the map",
+            source=source,
+        )
+    try:
+        geo.to_lonlat(crs)
+    except (InputError, pyproj.exceptions.ProjError) as exc:
+        raise InputError(
+            f"the coordinate reference system {parsed.name!r} cannot be converted to "
+            f"WGS 84 longitude/latitude ({exc})",
+            source=source,
+        ) from None
 
 
 def _street_words(street: _Street) -> str:
