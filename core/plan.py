@@ -32,6 +32,50 @@ class Step:
 
 
 @dataclass(slots=True)
+class TurnCounts:
+    """The manoeuvres between consecutive passes of a circuit (the return to the depot
+    at the end is parking, not a turn).
+
+    ``left``/``right`` count turns and sharp turns; bears (20–45°) count as straight
+    on in :attr:`straight_on` and are kept apart here.  Without street geometry only
+    U-turns (driving back along the same street) can be told; then ``geometry`` is
+    False and everything else counts as straight on.
+    """
+
+    straight: int = 0
+    bear_left: int = 0
+    bear_right: int = 0
+    left: int = 0
+    right: int = 0
+    sharp_left: int = 0
+    sharp_right: int = 0
+    uturns: int = 0
+    """All U-turns, allowed or not."""
+    across_traffic: int = 0
+    """Turns across the oncoming lane (left where traffic keeps right), U-turns aside."""
+    uturn_nodes: list[str] = field(default_factory=list)
+    """Where U-turns remain that are not allowed (not a dead end or turning place)."""
+    detours: int = 0
+    """Ways round the block driven instead of a U-turn."""
+    extra_m: float = 0.0
+    """Deadhead the detours add (the extra distance for turn rules)."""
+    drive: str = "right"
+    geometry: bool = True
+
+    @property
+    def lefts(self) -> int:
+        return self.left + self.sharp_left
+
+    @property
+    def rights(self) -> int:
+        return self.right + self.sharp_right
+
+    @property
+    def straight_on(self) -> int:
+        return self.straight + self.bear_left + self.bear_right
+
+
+@dataclass(slots=True)
 class Plan:
     """A closed circuit from the depot with its figures.
 
@@ -48,6 +92,8 @@ class Plan:
     timings: dict[str, float] = field(default_factory=dict)
     notes: list[str] = field(default_factory=list)
     network_name: str = ""
+    turns: TurnCounts | None = None
+    """Turn counts of the circuit (``None`` for plans read from files without them)."""
 
     @property
     def total_m(self) -> float:

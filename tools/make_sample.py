@@ -1,7 +1,7 @@
 """Generate the demo district: Thistlewick, a fictional town.
 
 Writes ``sample_data/thistlewick.geojson``: an RFC 7946 FeatureCollection of
-LineString streets and one depot Point, longitude/latitude on WGS 84, placed
+LineString streets, one depot Point and turning-place Points, longitude/latitude on WGS 84, placed
 in the open North Atlantic around 32° W, 47° N so that it is no real place.
 Everything, street names included, is invented; the layout is drawn from a
 fixed seed, so running this again gives the same file byte for byte.
@@ -11,7 +11,8 @@ jittered and the grid gently warped), some grid streets left out, short
 closes into the blocks; a High Street with a one-way loop around the Market
 Place; two one-way pairs and one one-way stretch; five crescents (curved
 polylines) with closes off them; dead-end spurs round the edge; a bypass ring
-joined by eight link roads, one of them a dual carriageway; farm lanes and an
+joined by eight link roads at roundabouts (turning places: a large vehicle
+may come back on itself there), one of them a dual carriageway; farm lanes and an
 industrial estate outside the ring with the works depot at its far end; and
 Old Mill Lane, which passes under the bypass on a bridge without a junction.
 
@@ -213,6 +214,7 @@ class Town:
     nodes: dict[str, Point] = field(default_factory=dict)
     streets: list[Street] = field(default_factory=list)
     depot: str = ""
+    turning_places: list[str] = field(default_factory=list)
 
     def node(self, key: str, xy: Point) -> str:
         """Make a shared junction (a vertex that lines will meet at) and return its key."""
@@ -410,6 +412,7 @@ def build_town(seed: int = SEED) -> Town:
         town.streets.append(Street("Thistlewick Bypass", arc, service="none"))
 
     for (i, j), v, name, service, passes in LINKS:
+        town.turning_places.append(f"r{v}")  # a roundabout where the link meets the bypass
         a, b = town.nodes[g(i, j)], town.nodes[f"r{v}"]
         along = _unit(b[0] - a[0], b[1] - a[1])
         off = 8.0 if (i + j) % 2 else -8.0
@@ -526,7 +529,7 @@ def _to_lonlat(town: Town) -> Any:
 
 
 def town_to_geojson(town: Town) -> dict[str, Any]:
-    """The FeatureCollection: one LineString per street, then the depot Point."""
+    """The FeatureCollection: one LineString per street, the depot Point, then turning places."""
     convert = _to_lonlat(town)
     node_lonlat = {key: convert(xy) for key, xy in town.nodes.items()}
 
@@ -559,6 +562,14 @@ def town_to_geojson(town: Town) -> dict[str, Any]:
             "geometry": {"type": "Point", "coordinates": node_lonlat[town.depot]},
         }
     )
+    for key in town.turning_places:
+        features.append(
+            {
+                "type": "Feature",
+                "properties": {"turning_place": True, "name": "roundabout"},
+                "geometry": {"type": "Point", "coordinates": node_lonlat[key]},
+            }
+        )
     return {"type": "FeatureCollection", "name": "Thistlewick", "features": features}
 
 

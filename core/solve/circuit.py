@@ -21,16 +21,20 @@ service in separate pieces   integer program with connectivity flow,      exact,
                              links
 ===========================  ===========================================  ==========
 
-Then an Eulerian circuit of the passes is walked from the depot (Hierholzer
-1873) and each pass is marked service or deadhead: a segment is serviced as
-many times as its requirement asks, by the first passes in the allowed
-direction; later passes are deadhead.
+Then an Eulerian circuit of the passes is built from the depot: by default the
+one that drives best under the turn rules (:mod:`core.solve.turn_rules`:
+straight on preferred, few turns across traffic, U-turns only at dead ends and
+turning places, ways round the block where asked), else Hierholzer's (1873)
+walk.  Each pass is marked service or deadhead: a segment is serviced as many
+times as its requirement asks, by the first passes in the allowed direction;
+later passes are deadhead.
 
 The network is never modified.
 """
 
 from __future__ import annotations
 
+import math
 import threading
 import time
 from collections.abc import Callable
@@ -40,7 +44,7 @@ import numpy as np
 
 from core.errors import Cancelled, SolverError
 from core.model import Network
-from core.plan import Plan, Step
+from core.plan import Plan, Step, TurnCounts
 from core.solve.arcs import ArcProblem, compile_network
 from core.solve.connect import linking_arcs, required_pieces
 from core.solve.euler import euler_circuit, orient_even
@@ -54,6 +58,8 @@ from core.solve.mixed_ip import (
 )
 from core.solve.reach import check_reachable
 from core.solve.tjoin import min_tjoin
+from core.solve.turn_rules import count_turns, turn_circuit, turn_geometry
+from core.turns import DriveSide, parse_drive_side
 
 ProgressFn = Callable[[str, float], None]
 StopFlag = Callable[[], bool] | threading.Event
@@ -117,6 +123,9 @@ def plan_circuit(
     progress: ProgressFn | None = None,
     stop: StopFlag | None = None,
     strategy: str = "auto",
+    drive: str | DriveSide = DriveSide.RIGHT,
+    turn_rules: bool = True,
+    uturn_detours: bool | None = None,
 ) -> Plan:
     """Plan the shortest closed circuit from the depot over every required pass.
 
@@ -137,6 +146,19 @@ def plan_circuit(
         ``"auto"`` (exact where the time budget allows) or ``"heuristic"``
         (skip the integer programs: mixed and rural cases use the heuristics
         straight away, still with a lower bound).
+    drive
+        ``"right"`` or ``"left"``: the side of the road traffic keeps to (which
+        turns cross oncoming traffic).
+    turn_rules
+        Among the Eulerian circuits of the optimal passes, build one that prefers
+        straight on and avoids turns across traffic and U-turns
+        (:mod:`core.solve.turn_rules`); the length is unchanged.  When False the
+        circuit is Hierholzer's walk as found.  Turns are counted either way.
+    uturn_detours
+        Replace U-turns that remain where none is allowed (not a dead end or
+        turning place) by the shortest way round, which adds deadhead.  ``None``
+        (default): only on networks with coordinates (real street maps); abstract
+        research instances are planned as their problem states them.
 
     Returns
     -------
@@ -150,6 +172,7 @@ def plan_circuit(
     """
     if strategy not in STRATEGIES:
         raise ValueError(f"strategy {strategy!r} is not one of {', '.join(map(repr, STRATEGIES))}")
+    side = parse_drive_side(drive)
     ctx = _Ctx(progress, stop, time_limit, strategy)
     timings: dict[str, float] = {}
     t = time.perf_counter()
@@ -183,13 +206,20 @@ def plan_circuit(
     ctx.check()
     t = time.perf_counter()
     ctx.say("walking the circuit", 0.9)
-    steps = walk(p, x)
-    timings["circuit_s"] = time.perf_counter() - t
-    timings["total_s"] = sum(timings.values())
     total = float(np.dot(x, p.arc_cost))
     if exact or bound > total:
         bound = total
-    plan = Plan(depot_id, steps, bound, f"{kind}: {method}", exact, timings, notes, network.name)
+    detours = network.has_coordinates if uturn_detours is None else bool(uturn_detours)
+    steps, turns, turns_s = _walk_with_turns(p, x, network, side, turn_rules, detours, ctx, notes)
+    timings["circuit_s"] = time.perf_counter() - t
+    timings["total_s"] = sum(timings.values())
+    timings["turn_rules_s"] = turns_s  # part of circuit_s: pairing, joining, detours, counts
+    if turns.extra_m > 0:
+        exact = False  # proven shortest before the detours; the gap now shows their cost
+        method += "; detours for turn rules"
+    plan = Plan(
+        depot_id, steps, bound, f"{kind}: {method}", exact, timings, notes, network.name, turns
+    )
     ctx.say("done", 1.0)
     return plan
 
@@ -400,12 +430,63 @@ def _solve_pieces(
 
 
 # -- the walk -------------------------------------------------------------------------------------
-def walk(p: ArcProblem, x: np.ndarray) -> list[Step]:
-    """Walk the passes ``x`` (count per arc) as one circuit from the depot and mark service.
+def _walk_with_turns(
+    p: ArcProblem,
+    x: np.ndarray,
+    network: Network,
+    drive: DriveSide,
+    turn_rules: bool,
+    detours: bool,
+    ctx: _Ctx,
+    notes: list[str],
+) -> tuple[list[Step], TurnCounts, float]:
+    """The steps of the circuit, its turn counts and the seconds the turn work took; with
+    ``turn_rules`` the circuit is built by :func:`core.solve.turn_rules.turn_circuit`,
+    else by Hierholzer's walk."""
+    t0 = time.perf_counter()
+    geo = turn_geometry(p, network)
+    if turn_rules:
+        tc = turn_circuit(
+            p, x, network, drive=drive, detours=detours, geometry=geo, check=ctx.check
+        )
+        arcs = tc.arcs
+    else:
+        arcs = circuit_arcs(p, x)
+    turns = count_turns(p, geo, arcs, drive, p.node_ids)
+    seconds = time.perf_counter() - t0
+    steps = steps_of(p, arcs)
+    if turn_rules and tc.detours:
+        extra = math.fsum(d.length for d in tc.detours)
+        turns.detours, turns.extra_m = len(tc.detours), extra
+        where = ", ".join(sorted({p.node_ids[d.node] for d in tc.detours}, key=_natural)[:8])
+        notes.append(
+            f"Turn rules: {len(tc.detours)} way(s) round the block instead of a U-turn "
+            f"(at {where}{', ...' if len(tc.detours) > 8 else ''}) add "
+            f"{extra:,.1f}{' m' if network.crs else ' (length units)'} of deadhead."
+        )
+    if turns.uturn_nodes:
+        where = ", ".join(sorted(set(turns.uturn_nodes), key=_natural)[:8])
+        why = (
+            "no way round was found (a one-way trap or a street with no way back)"
+            if turn_rules and detours
+            else "ways round were not asked for"
+            if turn_rules
+            else "turn rules were off"
+        )
+        notes.append(
+            f"{len(turns.uturn_nodes)} U-turn(s) remain where none is allowed (at {where}"
+            f"{', ...' if len(set(turns.uturn_nodes)) > 8 else ''}): {why}."
+        )
+    return steps, turns, seconds
 
-    Each segment is serviced by its first passes in an allowed direction,
-    exactly as many times as it needs; later passes are deadhead.  O(m).
-    """
+
+def _natural(s: str) -> tuple[int, str]:
+    return (int(s), "") if s.isdigit() else (1 << 62, s)
+
+
+def circuit_arcs(p: ArcProblem, x: np.ndarray) -> list[int]:
+    """The passes ``x`` (count per arc) as arcs in the order of Hierholzer's walk from the
+    depot (no turn rules).  O(m)."""
     x = np.asarray(x, dtype=np.int64)
     arc = np.repeat(np.arange(len(x)), x)
     frm = p.arc_from[arc]
@@ -415,20 +496,33 @@ def walk(p: ArcProblem, x: np.ndarray) -> list[Step]:
     ):
         raise SolverError("the passes are not balanced at every junction; this is a bug")
     order = euler_circuit(p.n_nodes, frm, to, p.depot)
+    return arc[order].tolist()
+
+
+def walk(p: ArcProblem, x: np.ndarray) -> list[Step]:
+    """Walk the passes ``x`` (count per arc) as one circuit from the depot and mark service
+    (Hierholzer's walk, no turn rules).  O(m)."""
+    return steps_of(p, circuit_arcs(p, x))
+
+
+def steps_of(p: ArcProblem, arcs: list[int]) -> list[Step]:
+    """The steps of a circuit given as arcs in driving order, with service marked.
+
+    Each segment is serviced by its first passes in an allowed direction,
+    exactly as many times as it needs; later passes are deadhead.  O(m).
+    """
+    frm_l = p.arc_from[arcs].tolist() if arcs else []
+    to_l = p.arc_to[arcs].tolist() if arcs else []
     need_f = p.need_fwd.tolist()
     need_b = p.need_bwd.tolist()
     need_a = p.need_any.tolist()
     arc_seg = p.arc_seg.tolist()
     arc_dir = p.arc_dir.tolist()
-    arcs = arc.tolist()
     length = p.length.tolist()
     seg_ids = p.seg_ids
     node_ids = p.node_ids
-    frm_l = frm.tolist()
-    to_l = to.tolist()
     steps: list[Step] = []
-    for k in order:
-        a = arcs[k]
+    for k, a in enumerate(arcs):
         s = arc_seg[a]
         service = False
         if arc_dir[a] > 0 and need_f[s] > 0:
