@@ -1,0 +1,151 @@
+"""Fleet plans against published capacitated arc routing instances; prints a Markdown table.
+
+Run from the repository root (one core; use ``nice`` beside other work)::
+
+    python bench/bench_carp.py                       # gdb, val, egl and Kerteminde
+    python bench/bench_carp.py --quick               # a few instances, short searches
+    python bench/bench_carp.py --sets gdb,val --time-limit 5
+
+Per instance of ``../shared/benchmarks/carp``: our cost (total length, service plus
+deadhead, from :func:`core.fleet.plan_fleet`), the best-known value and its published
+source, the gap and the wall time (reading, planning and the feasibility check).
+Every plan is checked by :mod:`core.fleet.check` (capacity, coverage, continuity);
+the "ok" column is its verdict.  Targets on one core: gdb within 0.5 % of the best
+known on every instance, val mean gap <= 1 %, egl mean gap <= 2 %, each instance
+<= 30 s.  Kerteminde (salt-spreading): a feasible plan and its length against the
+lower bound 357,097 m of ``../shared/benchmarks/README.md``, target within 8 %.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+import time
+from pathlib import Path
+from statistics import mean
+
+ROOT = Path(__file__).resolve().parents[1]
+if str(ROOT) not in sys.path:
+    sys.path.insert(0, str(ROOT))
+
+from core.files import read_network  # noqa: E402
+from core.fleet import plan_fleet, settings_from_network  # noqa: E402
+
+BENCH = ROOT.parent / "shared" / "benchmarks"
+
+# gdb (Golden, DeArmon & Baker 1983) and val (Benavent, Campos, Corberán & Mota 1992):
+# optimal values, proven by the lower bounds and exact methods collected in the result
+# tables of Vidal (2017), "Node, edge, arc routing and turn penalties: multiple problems -
+# one neighborhood extension", Operations Research 65(4).  Values from memory.
+GDB = {
+    "gdb1": 316, "gdb2": 339, "gdb3": 275, "gdb4": 287, "gdb5": 377, "gdb6": 298,
+    "gdb7": 325, "gdb8": 348, "gdb9": 303, "gdb10": 275, "gdb11": 395, "gdb12": 458,
+    "gdb13": 536, "gdb14": 100, "gdb15": 58, "gdb16": 127, "gdb17": 91, "gdb18": 164,
+    "gdb19": 55, "gdb20": 121, "gdb21": 156, "gdb22": 200, "gdb23": 233,
+}  # fmt: skip
+VAL = {
+    "val1A": 173, "val1B": 173, "val1C": 245, "val2A": 227, "val2B": 259, "val2C": 457,
+    "val3A": 81, "val3B": 87, "val3C": 138, "val4A": 400, "val4B": 412, "val4C": 428,
+    "val4D": 526, "val5A": 423, "val5B": 446, "val5C": 474, "val5D": 575, "val6A": 223,
+    "val6B": 233, "val6C": 317, "val7A": 279, "val7B": 283, "val7C": 334, "val8A": 386,
+    "val8B": 395, "val8C": 521, "val9A": 323, "val9B": 326, "val9C": 332, "val9D": 389,
+    "val10A": 428, "val10B": 436, "val10C": 446, "val10D": 525,
+}  # fmt: skip
+# egl (Li & Eglese 1996): best-known upper bounds as tabulated in Vidal (2017), Table 4,
+# and Tang, Mei & Yao (2009), "Memetic algorithm with extended neighborhood search for
+# capacitated arc routing problems", IEEE Trans. Evol. Comput. 13(5).  Values from memory.
+EGL = {
+    "egl-e1-A": 3548, "egl-e1-B": 4498, "egl-e1-C": 5595, "egl-e2-A": 5018,
+    "egl-e2-B": 6317, "egl-e2-C": 8335, "egl-e3-A": 5898, "egl-e3-B": 7775,
+    "egl-e3-C": 10292, "egl-e4-A": 6444, "egl-e4-B": 8961, "egl-e4-C": 11529,
+    "egl-s1-A": 5018, "egl-s1-B": 6384, "egl-s1-C": 8493, "egl-s2-A": 9825,
+    "egl-s2-B": 13017, "egl-s2-C": 16425, "egl-s3-A": 10146, "egl-s3-B": 13648,
+    "egl-s3-C": 17188, "egl-s4-A": 12143, "egl-s4-B": 16093, "egl-s4-C": 20375,
+}  # fmt: skip
+SETS = {"gdb": GDB, "val": VAL, "egl": EGL}
+SOURCE = {
+    "gdb": "optimum (Vidal 2017 tables)",
+    "val": "optimum (Vidal 2017 tables)",
+    "egl": "best known (Vidal 2017; Tang, Mei & Yao 2009)",
+}
+SEARCH_S = {"gdb": 20.0, "val": 20.0, "egl": 26.0, "salt": 27.0}
+"""Seconds per instance by set, given to the planner as its time limit (which covers
+preparing, the split and the search); reading and the check come on top (< 1 s)."""
+QUICK = {"gdb": ["gdb1", "gdb8"], "val": ["val1A", "val4A"], "egl": ["egl-e1-A"]}
+KERTEMINDE_BOUND = 357_097  # m, ../shared/benchmarks/README.md (integer relaxation)
+TARGETS = {"gdb": ("max", 0.5), "val": ("mean", 1.0), "egl": ("mean", 2.0)}
+
+
+def run_one(path: Path, search_s: float, seed: int) -> tuple[float, bool, float, int, list[str]]:
+    """(cost, feasible, seconds, vehicles, issues) for one instance."""
+    t = time.perf_counter()
+    network = read_network(path)
+    settings = settings_from_network(network, time_limit=search_s, seed=seed)
+    plan = plan_fleet(network, settings)
+    return plan.total_m, plan.feasible, time.perf_counter() - t, len(plan.routes), plan.issues
+
+
+def main(argv: list[str] | None = None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
+    ap.add_argument("--sets", default="gdb,val,egl,salt", help="comma list of gdb,val,egl,salt")
+    ap.add_argument("--time-limit", type=float, help="planner seconds per instance (all sets)")
+    ap.add_argument("--quick", action="store_true", help="a few instances, 2 s searches")
+    ap.add_argument("--seed", type=int, default=0)
+    args = ap.parse_args(argv)
+    sets = [s.strip() for s in args.sets.split(",") if s.strip()]
+    bad = [s for s in sets if s not in (*SETS, "salt")]
+    if bad:
+        ap.error(f"unknown set(s) {', '.join(bad)}; choose from gdb, val, egl, salt")
+    if not BENCH.is_dir():
+        print(f"benchmark folder {BENCH} is absent; nothing to run")
+        return 0
+    print(f"# Fleet planner on published CARP instances (cpu count {os.cpu_count()}, one core)\n")
+    print("| instance | ours | best known | source | gap % | time s | vehicles | ok |")
+    print("|---|---:|---:|---|---:|---:|---:|---|")
+    gaps: dict[str, list[float]] = {}
+    worst_time = 0.0
+    for name in sets:
+        if name == "salt":
+            continue
+        table = SETS[name]
+        names = QUICK[name] if args.quick else list(table)
+        search = 2.0 if args.quick else (args.time_limit or SEARCH_S[name])
+        for inst in names:
+            path = BENCH / "carp" / f"{inst}.dat"
+            cost, ok, secs, nveh, issues = run_one(path, search, args.seed)
+            gap = (cost - table[inst]) / table[inst] * 100
+            gaps.setdefault(name, []).append(gap)
+            worst_time = max(worst_time, secs)
+            print(
+                f"| {inst} | {cost:.0f} | {table[inst]} | {SOURCE[name]} | {gap:.2f} | "
+                f"{secs:.1f} | {nveh} | {'yes' if ok else 'NO: ' + '; '.join(issues[:2])} |",
+                flush=True,
+            )
+    if "salt" in sets:
+        path = BENCH / "salt-spreading" / "kerteminde.json"
+        search = 2.0 if args.quick else (args.time_limit or SEARCH_S["salt"])
+        cost, ok, secs, nveh, issues = run_one(path, search, args.seed)
+        gap = (cost - KERTEMINDE_BOUND) / KERTEMINDE_BOUND * 100
+        worst_time = max(worst_time, secs)
+        print(
+            f"| kerteminde | {cost:.0f} m | {KERTEMINDE_BOUND} m | lower bound (benchmarks "
+            f"README) | {gap:.2f} | {secs:.1f} | {nveh} | "
+            f"{'yes' if ok else 'NO: ' + '; '.join(issues[:2])} |",
+            flush=True,
+        )
+    print()
+    for name, g in gaps.items():
+        kind, target = TARGETS[name]
+        value = max(g) if kind == "max" else mean(g)
+        verdict = "met" if value <= target else "MISSED"
+        print(
+            f"- {name}: mean gap {mean(g):.2f} %, worst {max(g):.2f} % "
+            f"(target: {kind} <= {target} %: {verdict})"
+        )
+    print(f"- slowest instance {worst_time:.1f} s (target <= 30 s)")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,201 @@
+"""The command line's fleet part: options of ``roundsman plan`` and ``roundsman compare``.
+
+Kept here so that :mod:`core.cli` only hooks these in.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+
+from core.errors import FleetError
+from core.fleet.result import FleetPlan
+from core.fleet.settings import WEEKDAYS, FleetSettings, VehicleType, settings_from_network
+from core.model import Network
+
+
+def add_fleet_options(p: argparse.ArgumentParser, *, compare: bool = False) -> None:
+    """``--vehicles``, ``--capacity``, ``--max-time``, ``--seed``, ``--day`` and the search
+    time; for ``compare`` ``--vehicles`` takes a comma list."""
+    p.add_argument(
+        "--vehicles",
+        metavar="N[,N...]" if compare else "N",
+        help="vehicles available (default: what the file states, else as many as needed)"
+        + ("; a comma list compares each count" if compare else ""),
+    )
+    p.add_argument(
+        "--capacity",
+        type=float,
+        metavar="C",
+        help="what one vehicle carries, in the unit of the street demands (default: the file's)",
+    )
+    p.add_argument(
+        "--max-time",
+        type=float,
+        metavar="MIN",
+        help="minutes one route may take (default: the file's limit, else none)",
+    )
+    p.add_argument("--seed", type=int, default=0, help="seed of the route search (default 0)")
+    p.add_argument(
+        "--day",
+        choices=WEEKDAYS,
+        help="plan only the streets serviced on this weekday (street attribute 'days')",
+    )
+    p.add_argument(
+        "--search-time",
+        type=float,
+        default=10.0,
+        metavar="S",
+        help="seconds the fleet route search may use per plan (default 10)",
+    )
+
+
+def _counts(value: str | None) -> list[int | None]:
+    if value is None:
+        return [None]
+    out: list[int | None] = []
+    for part in str(value).split(","):
+        try:
+            n = int(part)
+        except ValueError:
+            raise FleetError(f"--vehicles {value!r}: {part!r} is not a whole number") from None
+        if n < 1:
+            raise FleetError(f"--vehicles {value!r}: counts must be at least 1")
+        out.append(n)
+    return out
+
+
+def wants_fleet(network: Network, args: argparse.Namespace) -> bool:
+    """A fleet plan unless ``--one-circuit``: when the file states capacity or vehicles,
+    or the options give vehicles, capacity, a time limit or a day."""
+    if getattr(args, "one_circuit", False):
+        return False
+    meta = network.meta or {}
+    given = any(
+        getattr(args, k, None) is not None for k in ("vehicles", "capacity", "max_time", "day")
+    )
+    return bool(meta.get("capacity") or meta.get("vehicles") or given)
+
+
+def settings_from_args(
+    network: Network, depot: str | None, args: argparse.Namespace, vehicles: int | None = None
+) -> FleetSettings:
+    """Fleet settings from the file and the options; the activity gives speeds and the
+    demand model of streets without their own demand."""
+    from core.activity import activity_preset
+
+    base = VehicleType()
+    activity = getattr(args, "activity", None)
+    if activity:
+        base = VehicleType.from_activity(
+            activity_preset(activity), capacity=None, max_time_min=None
+        )
+    if depot is not None and not (network.meta or {}).get("depots"):
+        base = VehicleType(**{**_fields(base), "home": depot})
+    if vehicles is None and getattr(args, "vehicles", None) is not None:
+        vehicles = _counts(args.vehicles)[0]
+    return settings_from_network(
+        network,
+        vehicles=vehicles,
+        capacity=getattr(args, "capacity", None),
+        max_time_min=getattr(args, "max_time", None),
+        base=base,
+        seed=getattr(args, "seed", 0),
+        day=getattr(args, "day", None),
+        time_limit=getattr(args, "search_time", 10.0),
+    )
+
+
+def _fields(v: VehicleType) -> dict[str, object]:
+    return {k: getattr(v, k) for k in v.__slots__}  # type: ignore[attr-defined]
+
+
+def fleet_summary(network: Network, plan: FleetPlan) -> str:
+    """The human summary of a fleet plan: one line per route and trip, then totals."""
+    unit, name = (1000.0, "km") if network.crs is not None else (1.0, "")
+    lines = [
+        f"{network.name or 'Network'}: fleet plan, {len(plan.routes)} vehicles, "
+        f"{plan.n_trips} trips" + (f", {plan.day}" if plan.day else ""),
+        f"Method      {plan.method}",
+    ]
+    for r in plan.routes:
+        lines.append(
+            f"Vehicle {r.vehicle}: {len(r.trips)} trips, service {r.service_m / unit:.2f} {name}, "
+            f"deadhead {r.deadhead_m / unit:.2f} {name}, {r.minutes:.0f} min"
+        )
+        for k, t in enumerate(r.trips, 1):
+            lines.append(
+                f"  trip {k}: {t.start} -> {t.end}, load {t.load:g}, "
+                f"service {t.service_m / unit:.2f}, deadhead {t.deadhead_m / unit:.2f}, "
+                f"{t.minutes:.0f} min"
+            )
+    lines += [
+        f"Service     {plan.service_m / unit:12.2f} {name}",
+        f"Deadhead    {plan.deadhead_m / unit:12.2f} {name}",
+        f"Total       {plan.total_m / unit:12.2f} {name}",
+        f"Hours       {plan.hours:12.2f}",
+    ]
+    if len(plan.class_done_min) > 1:
+        for p, m in plan.class_done_min.items():
+            lines.append(f"Class {p} complete after {m:.0f} min")
+    lines.append("Check       " + ("feasible" if plan.feasible else "NOT FEASIBLE"))
+    lines += [f"Problem: {i}" for i in plan.issues[:10]]
+    lines += [f"Note: {n}" for n in plan.notes]
+    return "\n".join(lines)
+
+
+def run_fleet_plan(network: Network, depot: str | None, args: argparse.Namespace) -> int:
+    """``roundsman plan`` for a fleet: plan, print, write the plan file."""
+    from core.files.plan_json import write_plan
+    from core.fleet.planner import plan_fleet
+
+    settings = settings_from_args(network, depot, args)
+    plan = plan_fleet(network, settings)
+    print(fleet_summary(network, plan))
+    out = args.out or Path(args.input).with_suffix(".plan.json").name
+    write_plan(plan, out)
+    print(f"Plan written to {out}")
+    if not plan.feasible:
+        print("roundsman: the plan breaks a rule (see Problem lines)", file=sys.stderr)
+    return 0
+
+
+def add_compare_parser(sub: argparse._SubParsersAction, common: object) -> None:
+    """``roundsman compare INPUT --depots A,B,C [--vehicles N,M] [--csv FILE]``."""
+    p = sub.add_parser("compare", help="plan from each candidate depot and compare the figures")
+    common(p)  # type: ignore[operator]
+    p.add_argument("--depots", required=True, help="candidate depots: node ids, comma separated")
+    add_fleet_options(p, compare=True)
+    p.add_argument("--activity", default=None, help="activity preset for speeds and demands")
+    p.add_argument("--csv", metavar="FILE", help="also write the table as CSV")
+    p.add_argument(
+        "--workers", type=int, metavar="N", help="parallel processes (default: all cores)"
+    )
+    p.set_defaults(func=cmd_compare)
+
+
+def cmd_compare(args: argparse.Namespace) -> int:
+    from core.cli import load_network
+    from core.files.atomic import atomic_write_text
+    from core.fleet.compare import Candidate, compare_depots, rows_csv, table_text
+
+    network = load_network(args)
+    depots = [d.strip() for d in str(args.depots).split(",") if d.strip()]
+    for d in depots:
+        if d not in network.nodes:
+            raise FleetError(f"--depots: {d!r} is not a node of the network")
+    counts = _counts(args.vehicles)
+    settings = settings_from_args(network, None, args, vehicles=None)
+    cands = [Candidate(d, n) for d in depots for n in counts]
+
+    def progress(msg: str, frac: float) -> None:
+        print(f"[{frac * 100:3.0f} %] {msg}", file=sys.stderr)
+
+    rows = compare_depots(network, cands, settings, workers=args.workers, progress=progress)
+    unit = 1000.0 if network.crs is not None else 1.0
+    print(table_text(rows, unit))
+    if args.csv:
+        atomic_write_text(args.csv, rows_csv(rows, unit))
+        print(f"Table written to {args.csv}")
+    return 0

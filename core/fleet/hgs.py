@@ -1,0 +1,379 @@
+"""Arc routing through PyVRP: node-routing transformations of the service passes.
+
+PyVRP (Wouda, Lan & Kool 2024, "PyVRP: a high-performance VRP solver package",
+INFORMS J. Computing; its search descends from the hybrid genetic search of
+Vidal 2022) solves vehicle routing on *nodes*, with several depots, reload depots
+for multi-trip routes, route duration limits, vehicle types and mutually exclusive
+client groups.  Two transformations of the passes are offered (``mode``):
+
+``groups`` (default)
+    each direction of a pass is one node (its entry and exit are the two ends of the
+    street), and the directions of a two-way pass form a required mutually exclusive
+    group: exactly one is visited.  This is arc routing as a generalised VRP
+    (Baldacci, Bartolini & Laporte 2010, "Some applications of the generalized
+    vehicle routing problem", JORS 61 — from memory); no constant is needed and a
+    pass can never be split.  Chosen because the ``pairs`` form below let the search
+    split pairs to gain time on the time-limited salt-spreading instance.
+``pairs``
+    the classical transformation (Pearn, Assad & Golden 1987; Longo, Poggi de
+    Aragão & Uchoa 2006; Foulds, Longo & Martins 2015): a two-way pass u–v becomes
+    two nodes ``u→v`` and ``v→u`` linked at zero cost; visiting ``u→v`` then its
+    partner means servicing from u to v.  A constant M is added to every arc between
+    different passes and M/2 to every arc to or from a depot, so a trip servicing k
+    passes pays k·M and every solution that keeps the pairs together costs the real
+    deadhead plus n·M; a split pair pays at least one extra M, which with M above
+    twice the longest deadhead never pays on distance alone.
+
+In both, the distance between nodes is the deadhead from the arc just serviced to
+the start of the next, on the turn-aware state graph
+(:class:`core.fleet.graph.StateGraph`), so one-way streets and turn rules hold; the
+service length is a constant left out of the objective.  Decoded plans are checked
+by the independent :mod:`core.fleet.check`.  Cost: the matrices O(L²) for L nodes;
+the search runs for its time budget.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from collections.abc import Callable, Sequence
+
+import numpy as np
+import pyvrp
+from pyvrp.search import NeighbourhoodParams
+from pyvrp.solve import SolveParams
+from pyvrp.stop import StoppingCriterion
+
+from core.fleet.graph import StateGraph, Task
+from core.fleet.settings import FleetSettings
+
+Visit = tuple[int, int]
+RouteSpec = tuple[int, list[list[Visit]]]
+"""(vehicle type index, trips), each trip a list of visits."""
+
+_BIG = 10**12
+MODES = ("groups", "pairs")
+"""``groups``: each direction of a two-way pass is its own node and the two form a
+mutually exclusive required group (a generalised VRP; PyVRP's client groups);
+``pairs``: the two-node transformation with the constant M described above."""
+
+
+def _params() -> SolveParams:
+    """Search settings: restarts after 20,000 iterations without improvement (default
+    150,000) and 100 granular neighbours (default 50), both chosen on gdb8 and val4D
+    where the defaults stalled (our measurements, noisy; see bench/bench_carp.py)."""
+    return SolveParams(
+        ils=pyvrp.IteratedLocalSearchParams(num_iters_no_improvement=20_000),
+        neighbourhood=NeighbourhoodParams(num_neighbours=100),
+    )
+
+
+class _Stop(StoppingCriterion):
+    """Stop at the time budget or when the caller's stop flag is raised."""
+
+    def __init__(
+        self,
+        seconds: float,
+        stopped: Callable[[], bool],
+        iterations: int | None = None,
+        tick: Callable[[], None] | None = None,
+    ) -> None:
+        self.deadline = time.perf_counter() + seconds
+        self.stopped = stopped
+        self.left = iterations
+        self.tick = tick
+        self.next_tick = 0.0
+
+    def __call__(self, best_cost: float) -> bool:
+        if self.tick is not None and time.perf_counter() >= self.next_tick:
+            self.next_tick = time.perf_counter() + 0.5
+            self.tick()
+        if self.left is not None:
+            self.left -= 1
+            if self.left < 0:
+                return True
+        return time.perf_counter() >= self.deadline or self.stopped()
+
+
+class NodeModel:
+    """The PyVRP instance of a fleet problem and the map back to passes.
+
+    Parameters
+    ----------
+    graph, tasks, settings
+        The state graph, the passes and the fleet settings.
+    end_state
+        Per vehicle type, the terminal states its route may end in (one, or every
+        refill site for ``end_at="refill"``).
+    """
+
+    def __init__(
+        self,
+        graph: StateGraph,
+        tasks: Sequence[Task],
+        settings: FleetSettings,
+        starts: Sequence[str],
+        end_states: Sequence[list[int]],
+        refill_nodes: Sequence[str],
+        timed: bool,
+        mode: str = "groups",
+    ) -> None:
+        self.graph = graph
+        self.tasks = tasks
+        # -- depots: homes, refill sites, then one virtual end per distinct end set --
+        depot_rows: list[int] = []
+        depot_cols: list[list[int]] = []
+        depot_index: dict[object, int] = {}
+
+        self.depot_node: list[str | None] = []  # None: a virtual end (nearest refill)
+
+        def depot(key: object, row: int, cols: list[int]) -> int:
+            if key not in depot_index:
+                depot_index[key] = len(depot_rows)
+                depot_rows.append(row)
+                depot_cols.append(cols)
+                self.depot_node.append(key if isinstance(key, str) else None)
+            return depot_index[key]
+
+        self.start_depot = [depot(s, graph.free(s), [graph.terminal(s)]) for s in starts]
+        self.reload = [depot(r, graph.free(r), [graph.terminal(r)]) for r in refill_nodes]
+        self.end_depot = []
+        for k, states in enumerate(end_states):
+            if len(states) == 1 and states[0] == graph.terminal(starts[k]):
+                self.end_depot.append(self.start_depot[k])
+            else:
+                self.end_depot.append(depot(("end", tuple(states)), -1, list(states)))
+        self.depot_cols = depot_cols
+        # -- clients: (task, entry arc, exit arc) ---------------------------------------
+        if mode not in MODES:
+            raise ValueError(f"mode {mode!r} is not one of {', '.join(map(repr, MODES))}")
+        self.mode = mode
+        self.clients: list[tuple[int, int, int]] = []
+        for t in tasks:
+            if len(t.arcs) == 1:
+                self.clients.append((t.index, t.arcs[0], t.arcs[0]))
+            elif mode == "pairs":
+                a0, a1 = t.arcs
+                self.clients.append((t.index, a0, a1))
+                self.clients.append((t.index, a1, a0))
+            else:
+                for a in t.arcs:
+                    self.clients.append((t.index, a, a))
+        nd, nc = len(depot_rows), len(self.clients)
+        row_states = depot_rows + [c[2] for c in self.clients]
+        graph.rows([s for s in row_states if s >= 0])
+        dist = np.full((nd + nc, nd + nc), np.inf)
+        mins = np.zeros((nd + nc, nd + nc))
+        col_arc = np.array([c[1] for c in self.clients], dtype=np.int64)
+        for i, s in enumerate(row_states):
+            if s < 0:
+                continue
+            d, _pred = graph._rows[s]
+            m = graph.minutes_row(s) if timed else None
+            # to clients: the path to the entry arc minus that arc
+            row = d[col_arc] - graph.arc_len[col_arc]
+            same = col_arc == s
+            if np.any(same):
+                row[same] = graph.dist(s, s) - graph.arc_len[s]
+            dist[i, nd:] = row
+            if m is not None:
+                mins[i, nd:] = m[col_arc] - graph.arc_min[col_arc]
+                if np.any(same):
+                    mins[i, nd:][same] = graph.minutes(s, s) - graph.arc_min[s]
+            for j, cols in enumerate(depot_cols):
+                dj = d[cols]
+                k = int(np.argmin(dj))
+                dist[i, j] = dj[k]
+                if m is not None:
+                    mins[i, j] = m[cols[k]]
+        finite = dist[np.isfinite(dist)]
+        longest = float(finite.max()) if finite.size else 1.0
+        self.dscale = 1 if np.allclose(graph.arc_len, np.round(graph.arc_len)) else 100
+        # even, so that the two halves M/2 on the depot arcs add up to M exactly
+        self.M = 2 * (int(longest * self.dscale) + 1) if mode == "pairs" else 0
+        penalty = int(2 * longest * self.dscale) + 1
+        di = np.where(np.isfinite(dist), np.round(dist * self.dscale), _BIG).astype(np.int64)
+        task_of = np.array([-1] * nd + [c[0] for c in self.clients])
+        prio = np.array([0] * nd + [tasks[c[0]].priority for c in self.clients])
+        is_c = task_of >= 0
+        inter = is_c[:, None] & is_c[None, :] & (task_of[:, None] != task_of[None, :])
+        touch_depot = (~is_c[:, None]) ^ (~is_c[None, :])
+        di[inter] += self.M
+        di[touch_depot] += self.M // 2
+        backwards = inter & (prio[None, :] < prio[:, None])
+        di[backwards] += penalty
+        same_task = is_c[:, None] & (task_of[:, None] == task_of[None, :])
+        if mode == "pairs":
+            di[same_task] = 0
+        np.fill_diagonal(di, 0)
+        di = np.minimum(di, _BIG)
+        self.distance = di
+        dur = np.round(np.clip(np.where(np.isfinite(mins), mins, 0), 0, None) * 600)
+        dur = dur.astype(np.int64)
+        if mode == "pairs":
+            dur[same_task] = 0
+        np.fill_diagonal(dur, 0)
+        self.duration = dur
+        self.nd = nd
+        self._build_data(settings, timed)
+
+    def _build_data(self, settings: FleetSettings, timed: bool) -> None:
+        caps = [v.capacity for v in settings.vehicles]
+        demands = [t.demand for t in self.tasks]
+        integral = all(float(x).is_integer() for x in demands) and all(
+            c is None or float(c).is_integer() for c in caps
+        )
+        known = [c for c in caps if c is not None]
+        self.qscale = 1.0 if integral or not known else 1e6 / max(known)
+        per_client: list[tuple[int, int]] = []  # (demand, service) per client
+        count = {t.index: 0 for t in self.tasks}
+        for ti, _, _ in self.clients:
+            count[ti] += 1
+        for ti, _, _ in self.clients:
+            t = self.tasks[ti]
+            q = math.ceil(t.demand * self.qscale - 1e-6)
+            s = round(t.service_min * 600)
+            if count[ti] == 2 and self.mode == "pairs":
+                first = self.clients.index((ti, t.arcs[0], t.arcs[1]))
+                mine = len(per_client) == first
+                q = q // 2 + (q % 2 if mine else 0)
+                s = s // 2 + (s % 2 if mine else 0)
+            per_client.append((q, s))
+        n = self.nd + len(self.clients)
+        locations = [pyvrp.Location(0, 0) for _ in range(n)]
+        depots = [pyvrp.Depot(k) for k in range(self.nd)]
+        alternative = self.mode == "groups"
+        group_of: dict[int, int] = {}
+        groups = []
+        if alternative:
+            members: dict[int, list[int]] = {}
+            for k, (ti, _, _) in enumerate(self.clients):
+                members.setdefault(ti, []).append(k)
+            for ks in members.values():
+                if len(ks) > 1:
+                    for k in ks:
+                        group_of[k] = len(groups)
+                    groups.append(pyvrp.ClientGroup(ks, required=True))
+        clients = [
+            pyvrp.Client(
+                self.nd + k,
+                delivery=[q],
+                service_duration=s if timed else 0,
+                required=k not in group_of,
+                group=group_of.get(k),
+            )
+            for k, (q, s) in enumerate(per_client)
+        ]
+        types = []
+        n_tasks = max(1, len(self.tasks))
+        for k, v in enumerate(settings.vehicles):
+            cap = (
+                [math.floor(v.capacity * self.qscale + 1e-6)]
+                if v.capacity is not None
+                else [sum(q for q, _ in per_client) + 1]
+            )
+            kwargs: dict[str, object] = {}
+            if v.max_time_min is not None:
+                kwargs["shift_duration"] = math.floor(v.max_time_min * 600 + 1e-6)
+            if self.reload and v.capacity is not None:
+                kwargs["reload_depots"] = list(self.reload)
+            types.append(
+                pyvrp.VehicleType(
+                    v.count if v.count is not None else n_tasks,
+                    capacity=cap,
+                    start_depot=self.start_depot[k],
+                    end_depot=self.end_depot[k],
+                    name=v.name,
+                    **kwargs,
+                )
+            )
+        self.data = pyvrp.ProblemData(
+            locations, clients, depots, types, [self.distance], [self.duration], groups=groups
+        )
+
+    # -- to and from PyVRP -----------------------------------------------------------------------
+    def to_solution(self, routes: Sequence[RouteSpec]) -> pyvrp.Solution | None:
+        """A PyVRP solution from routes of visits (a warm start), or None if it cannot be
+        expressed."""
+        where = {(ti, entry): k for k, (ti, entry, _) in enumerate(self.clients)}
+        partner = {}
+        for k, (ti, entry, exit_) in enumerate(self.clients):
+            if entry != exit_:
+                partner[k] = where[(ti, exit_)]
+        out = []
+        try:
+            for vt, trips in routes:
+                acts: list[pyvrp.Activity] = []
+                for n, trip in enumerate(trips):
+                    if n > 0:
+                        if not self.reload:
+                            return None
+                        acts.append(pyvrp.Activity(pyvrp.ActivityType.DEPOT, self.reload[0]))
+                    for ti, arc in trip:
+                        k = where[(ti, arc)]
+                        acts.append(pyvrp.Activity(pyvrp.ActivityType.CLIENT, k))
+                        if k in partner:
+                            acts.append(pyvrp.Activity(pyvrp.ActivityType.CLIENT, partner[k]))
+                out.append(pyvrp.Route(self.data, acts, vt))
+            return pyvrp.Solution(self.data, out)
+        except (KeyError, ValueError, RuntimeError, IndexError):
+            return None
+
+    def solve(
+        self,
+        seconds: float,
+        seed: int,
+        stopped: Callable[[], bool],
+        initial: pyvrp.Solution | None,
+        iterations: int | None = None,
+        tick: Callable[[], None] | None = None,
+    ) -> pyvrp.Solution:
+        res = pyvrp.solve(
+            self.data,
+            _Stop(seconds, stopped, iterations, tick),
+            seed=seed,
+            collect_stats=False,
+            display=False,
+            params=_params(),
+            initial_solution=initial,
+        )
+        return res.best
+
+    def decode(self, sol: pyvrp.Solution) -> tuple[list[RouteSpec], int]:
+        """Routes of visits from a PyVRP solution, and the number of split pairs (a pass
+        whose partner node does not follow it at once; the pass is kept where its first
+        node is).  O(L)."""
+        routes: list[RouteSpec] = []
+        seen: set[int] = set()
+        split = 0
+        self.trip_ends: dict[int, list[str | None]] = {}
+        """Per decoded route, the depot or refill node where each trip ended (None: the
+        nearest one)."""
+        for r in sol.routes():
+            trips: list[list[Visit]] = []
+            cur: list[Visit] = []
+            prev = None
+            ends: list[str | None] = []
+            for act in r.schedule():
+                if act.is_depot():
+                    if cur:
+                        trips.append(cur)
+                        ends.append(self.depot_node[act.idx])
+                    cur, prev = [], None
+                    continue
+                ti, entry, _ = self.clients[act.idx]
+                if ti in seen:
+                    if prev != ti:
+                        split += 1
+                    prev = None
+                    continue
+                seen.add(ti)
+                cur.append((ti, entry))
+                prev = ti
+            if cur:
+                trips.append(cur)
+                ends.append(None)
+            if trips:
+                self.trip_ends[len(routes)] = ends
+                routes.append((r.vehicle_type(), trips))
+        return routes, split

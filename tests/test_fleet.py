@@ -1,0 +1,367 @@
+"""Fleet plans: published CARP instances, the independent checker, the split, files, CLI.
+
+Published values (gdb1 = 316, gdb2 = 339, val1A = 173) are the proven optima of the
+instances of Golden, DeArmon & Baker (1983) and Benavent et al. (1992) as tabulated in
+Vidal (2017), Operations Research 65(4), Table 2 — values from memory.
+"""
+
+from __future__ import annotations
+
+import itertools
+import json
+import math
+from dataclasses import replace
+from pathlib import Path
+
+import pytest
+
+from core.cli import main
+from core.errors import InputError
+from core.files import read_network
+from core.files.plan_json import (
+    fleet_plan_from_dict,
+    fleet_plan_to_dict,
+    is_fleet_doc,
+    plan_from_dict,
+    write_plan,
+)
+from core.fleet import FleetSettings, VehicleType, check_plan, plan_fleet, settings_from_network
+from core.fleet.graph import StateGraph, build_tasks
+from core.fleet.split import split_tour
+from core.model import Network, Node, OneWay, Segment, Service
+from core.plan import Step
+
+BENCH = Path(__file__).resolve().parents[1].parent / "shared" / "benchmarks"
+needs_bench = pytest.mark.skipif(
+    not BENCH.is_dir(), reason=f"published benchmark instances not found at {BENCH}"
+)
+
+# Proven optima (Vidal 2017, Table 2; from memory).
+OPTIMUM = {"gdb1": 316, "gdb2": 339, "val1A": 173}
+
+
+def _carp(name: str) -> Network:
+    return read_network(BENCH / "carp" / f"{name}.dat")
+
+
+@pytest.fixture(scope="module")
+def gdb1_plan():
+    if not BENCH.is_dir():
+        pytest.skip(f"published benchmark instances not found at {BENCH}")
+    net = _carp("gdb1")
+    settings = settings_from_network(net, time_limit=1.5, seed=0)
+    return net, settings, plan_fleet(net, settings)
+
+
+@needs_bench
+@pytest.mark.parametrize("name", ["gdb1", "gdb2", "val1A"])
+def test_published_carp_feasible_and_close(name: str) -> None:
+    net = _carp(name)
+    settings = settings_from_network(net, time_limit=1.5, seed=0)
+    plan = plan_fleet(net, settings)
+    report = check_plan(net, plan, settings)
+    assert report.feasible, report.issues
+    assert plan.feasible
+    # never below the proven optimum; within 2 % of it after a short search
+    assert plan.total_m >= OPTIMUM[name] - 1e-9
+    assert plan.total_m <= OPTIMUM[name] * 1.02
+    cap = net.meta["capacity"]
+    assert all(t.load <= cap for r in plan.routes for t in r.trips)
+
+
+@needs_bench
+def test_salt_spreading_example_feasible() -> None:
+    # Belben example (after Belenguer & Benavent 2003), two vehicles, refill at node 1.
+    net = read_network(BENCH / "salt-spreading" / "belben.json")
+    settings = settings_from_network(net, time_limit=1.0)
+    plan = plan_fleet(net, settings)
+    assert check_plan(net, plan, settings).feasible, plan.issues
+    assert len(plan.routes) <= 2
+    need = sum(s.demand for s in net.required())
+    assert math.isclose(sum(r.load for r in plan.routes), need)
+
+
+# -- the checker catches broken plans -----------------------------------------------------------
+def test_checker_catches_missing_street(gdb1_plan) -> None:
+    net, settings, plan = gdb1_plan
+    broken = _copy(plan)
+    trip = broken.routes[0].trips[0]
+    k = next(i for i, s in enumerate(trip.steps) if s.service)
+    trip.steps[k] = replace(trip.steps[k], service=False)
+    issues = check_plan(net, broken, settings).issues
+    assert any("missing service" in i and trip.steps[k].segment in i for i in issues)
+
+
+def test_checker_catches_over_capacity(gdb1_plan) -> None:
+    net, settings, plan = gdb1_plan
+    broken = _copy(plan)
+    first, second = broken.routes[0], broken.routes[1]
+    first.trips[0].steps += second.trips[0].steps  # both trips start and end at the depot
+    broken.routes.remove(second)
+    issues = check_plan(net, broken, settings).issues
+    assert any("over the capacity" in i for i in issues)
+
+
+def test_checker_catches_jump_and_wrong_end(gdb1_plan) -> None:
+    net, settings, plan = gdb1_plan
+    broken = _copy(plan)
+    del broken.routes[0].trips[0].steps[0]
+    issues = check_plan(net, broken, settings).issues
+    assert any("jumps" in i for i in issues)
+
+
+def _oneway_network(turning: bool) -> Network:
+    """A ladder: a one-way street a→b, two-way streets around, node b no turning place."""
+    net = Network("ladder")
+    for n in "abcdef":
+        net.add_node(Node(n, turning_place=turning and n == "d"))
+    net.add_segment(Segment("ab", "a", "b", 100, oneway=OneWay.FORWARD, service=Service.ALONG))
+    net.add_segment(Segment("bc", "b", "c", 100))
+    net.add_segment(Segment("cd", "c", "d", 100))
+    net.add_segment(Segment("de", "d", "e", 100, service=Service.NONE))
+    net.add_segment(Segment("ea", "e", "a", 100, service=Service.NONE))
+    net.add_segment(Segment("bf", "b", "f", 100, service=Service.NONE))
+    net.add_segment(Segment("fe", "f", "e", 100, service=Service.NONE))
+    net.depot = "a"
+    return net
+
+
+def test_checker_catches_wrong_direction_and_forbidden_uturn() -> None:
+    net = _oneway_network(turning=True)
+    settings = FleetSettings(uturns="forbid", time_limit=0.5)
+    plan = plan_fleet(net, settings)
+    assert check_plan(net, plan, settings).feasible, plan.issues
+    # wrong direction: drive the one-way street backwards
+    broken = _copy(plan)
+    trip = broken.routes[0].trips[0]
+    k = next(i for i, s in enumerate(trip.steps) if s.segment == "ab")
+    s = trip.steps[k]
+    trip.steps[k] = replace(s, start=s.end, end=s.start, forward=not s.forward)
+    assert any("backwards" in i for i in check_plan(net, broken, settings).issues)
+    # a U-turn at c (not a turning place, not a dead end): c→b then b→c inserted
+    broken = _copy(plan)
+    trip = broken.routes[0].trips[0]
+    k = next(i for i, s in enumerate(trip.steps) if s.end == "c")
+    detour = [Step("bc", "c", "b", False, 100, False), Step("bc", "b", "c", False, 100, True)]
+    trip.steps[k + 1 : k + 1] = detour
+    issues = check_plan(net, broken, settings).issues
+    assert any("U-turn at node" in i for i in issues)
+
+
+def test_planner_keeps_turn_rules() -> None:
+    # With U-turns forbidden, the plan never turns back except at the turning place d
+    # or between trips; the checker (independent) agrees.
+    net = _oneway_network(turning=True)
+    for rule in ("forbid", "allow"):
+        settings = FleetSettings(uturns=rule, time_limit=0.5)
+        plan = plan_fleet(net, settings)
+        assert check_plan(net, plan, settings).feasible, (rule, plan.issues)
+
+
+# -- the split against brute force ------------------------------------------------------------
+def _line_network(n: int) -> Network:
+    net = Network("line")
+    for k in range(n + 1):
+        net.add_node(Node(str(k)))
+    for k in range(n):
+        net.add_segment(Segment(f"s{k}", str(k), str(k + 1), 10.0 + 3 * k, demand=1.0 + k % 3))
+    net.add_segment(Segment("back", str(n), "0", 7.0, service=Service.NONE))
+    net.depot = "0"
+    return net
+
+
+@pytest.mark.parametrize("cap", [3.0, 4.0, 6.0])
+def test_split_matches_brute_force(cap: float) -> None:
+    net = _line_network(7)
+    settings = FleetSettings(vehicles=(VehicleType(capacity=cap),))
+    graph = StateGraph(net, settings.vehicles[0], False)
+    tasks = build_tasks(net, graph, settings)
+    tour = [(t.index, t.arcs[0]) for t in tasks]
+    start, end = graph.free("0"), graph.terminal("0")
+
+    def end_of(arc: int) -> tuple[float, float]:
+        return graph.dist(arc, end), 0.0
+
+    trips = split_tour(tour, tasks, graph, start, end_of, cap, None)
+
+    def cost(trip) -> float:
+        here, c = start, 0.0
+        for _, arc in trip:
+            c += graph.dist(here, arc)
+            here = arc
+        return c + graph.dist(here, end)
+
+    best = math.inf
+    n = len(tour)
+    for cuts in itertools.product((False, True), repeat=n - 1):  # all 2^(n-1) cuttings
+        pieces, cur = [], [tour[0]]
+        for k, cut in enumerate(cuts, 1):
+            if cut:
+                pieces.append(cur)
+                cur = []
+            cur.append(tour[k])
+        pieces.append(cur)
+        if all(sum(tasks[t].demand for t, _ in p) <= cap for p in pieces):
+            best = min(best, sum(cost(p) for p in pieces))
+    assert math.isclose(sum(cost(t) for t in trips), best)
+    assert [v for t in trips for v in t] == tour
+
+
+# -- determinism, priorities, days ---------------------------------------------------------------
+def _grid(n: int = 4) -> Network:
+    net = Network("grid")
+    for i in range(n):
+        for j in range(n):
+            net.add_node(Node(f"n{i}_{j}", float(100 * i), float(100 * j)))
+    k = 0
+    for i in range(n):
+        for j in range(n):
+            for di, dj in ((1, 0), (0, 1)):
+                if i + di < n and j + dj < n:
+                    k += 1
+                    attrs = {"priority": 1 if i == 0 or j == 0 else 2}
+                    attrs["days"] = ["mon"] if k % 2 else ["tue", "thu"]
+                    net.add_segment(
+                        Segment(
+                            f"g{k}", f"n{i}_{j}", f"n{i + di}_{j + dj}", 100.0, demand=1.0,
+                            attrs=attrs,
+                        )
+                    )  # fmt: skip
+    net.depot = "n0_0"
+    return net
+
+
+def test_same_seed_same_plan() -> None:
+    net = _grid()
+    settings = FleetSettings(
+        vehicles=(VehicleType(capacity=6.0),), seed=3, iterations=300, time_limit=30
+    )
+    a, b = plan_fleet(net, settings), plan_fleet(net, settings)
+    assert [r.steps for r in a.routes] == [r.steps for r in b.routes]
+    assert a.feasible
+
+
+def test_priorities_first_and_reported() -> None:
+    net = _grid()
+    settings = FleetSettings(vehicles=(VehicleType(capacity=8.0),), time_limit=1.0)
+    plan = plan_fleet(net, settings)
+    assert check_plan(net, plan, settings).feasible, plan.issues  # checks the class order
+    assert set(plan.class_done_min) == {1, 2}
+    assert plan.class_done_min[1] <= plan.class_done_min[2]
+
+
+def test_service_day_covers_only_that_day() -> None:
+    net = _grid()
+    settings = FleetSettings(vehicles=(VehicleType(capacity=8.0),), day="mon", time_limit=0.5)
+    plan = plan_fleet(net, settings)
+    assert check_plan(net, plan, settings).feasible, plan.issues
+    served = {s.segment for r in plan.routes for s in r.steps if s.service}
+    assert served == {s.id for s in net if "mon" in s.attrs["days"]}
+
+
+# -- plan file and command line --------------------------------------------------------------
+def test_fleet_plan_json_round_trip(gdb1_plan, tmp_path: Path) -> None:
+    _, _, plan = gdb1_plan
+    path = tmp_path / "p.plan.json"
+    write_plan(plan, path)
+    doc = json.loads(path.read_text(encoding="utf-8"))
+    assert is_fleet_doc(doc)
+    back = fleet_plan_from_dict(doc)
+    assert [r.vehicle for r in back.routes] == [r.vehicle for r in plan.routes]
+    assert [r.steps for r in back.routes] == [r.steps for r in plan.routes]
+    assert [t.load for r in back.routes for t in r.trips] == pytest.approx(
+        [t.load for r in plan.routes for t in r.trips]
+    )
+    assert fleet_plan_to_dict(back)["totals"] == doc["totals"]
+    with pytest.raises(InputError, match="fleet plan"):
+        plan_from_dict(doc)  # the one-circuit reader refuses rather than drop routes
+
+
+@needs_bench
+def test_cli_plan_and_compare(tmp_path: Path, capsys) -> None:
+    src = str(BENCH / "carp" / "gdb1.dat")
+    out = tmp_path / "g.plan.json"
+    assert main(["plan", src, "--search-time", "0.5", "--out", str(out)]) == 0
+    assert is_fleet_doc(json.loads(out.read_text(encoding="utf-8")))
+    csv_path = tmp_path / "c.csv"
+    code = main(["compare", src, "--depots", "1,5", "--search-time", "0.5", "--csv", str(csv_path)])
+    assert code == 0
+    text = capsys.readouterr().out
+    assert "depot" in text
+    lines = csv_path.read_text(encoding="utf-8").splitlines()
+    assert lines[0].startswith("depot,") and [x.split(",")[0] for x in lines[1:]] == ["1", "5"]
+    # one circuit on request
+    assert main(["plan", src, "--one-circuit", "--out", str(tmp_path / "one.json")]) == 0
+    assert not is_fleet_doc(json.loads((tmp_path / "one.json").read_text(encoding="utf-8")))
+
+
+def test_cli_compare_refuses_unknown_depot(tmp_path: Path, capsys) -> None:
+    net = tmp_path / "n.json"
+    from core.files import write_network
+
+    write_network(_grid(3), net, fmt="project")
+    assert main(["compare", str(net), "--depots", "n0_0,nowhere"]) == 2
+    assert "nowhere" in capsys.readouterr().err
+
+
+def _copy(plan):
+    return fleet_plan_from_dict(json.loads(json.dumps(fleet_plan_to_dict(plan))))
+
+
+# -- the node transformations: objective = real deadhead (+ n·M for pairs) ---------------------
+@needs_bench
+@pytest.mark.parametrize("mode", ["groups", "pairs"])
+def test_node_transformation_objective(mode: str) -> None:
+    # Pearn, Assad & Golden (1987): with pairs kept together the node-routing cost is the
+    # arc-routing deadhead plus the constant n·M; the group form has no constant.
+    from core.fleet.hgs import NodeModel
+    from core.fleet.planner import _Context, realise
+
+    net = _carp("gdb1")
+    settings = settings_from_network(net, time_limit=0.5)
+    ctx = _Context(net, settings)
+    model = NodeModel(
+        ctx.graph, ctx.tasks, settings, ctx.homes, ctx.end_states, [], False, mode=mode
+    )
+    sol = model.solve(0.5, 0, lambda: False, None, 2000)
+    routes, split = model.decode(sol)
+    assert split == 0
+    plan = realise(ctx, routes, mode)
+    assert check_plan(net, plan, settings).feasible
+    assert sol.distance() == round(plan.deadhead_m) + len(ctx.tasks) * model.M
+
+
+def test_compare_api_progress_and_cancel() -> None:
+    from core.errors import Cancelled
+    from core.fleet.compare import Candidate, compare_depots
+
+    net = _grid(3)
+    settings = FleetSettings(vehicles=(VehicleType(capacity=6.0),), time_limit=0.3)
+    seen: list[float] = []
+    rows = compare_depots(
+        net,
+        [Candidate("n0_0"), Candidate("n1_1", 2)],
+        settings,
+        workers=1,
+        progress=lambda m, f: seen.append(f),
+    )
+    assert [r.depot for r in rows] == ["n0_0", "n1_1"]
+    assert all(r.feasible for r in rows) and seen[-1] == 1.0
+    with pytest.raises(Cancelled):
+        compare_depots(net, [Candidate("n0_0")], settings, workers=1, stop=lambda: True)
+
+
+def test_plan_progress_and_stop() -> None:
+    import threading
+
+    from core.errors import Cancelled
+
+    net = _grid(3)
+    settings = FleetSettings(vehicles=(VehicleType(capacity=6.0),), time_limit=1.2)
+    seen: list[float] = []
+    plan_fleet(net, settings, progress=lambda m, f: seen.append(f))
+    assert seen == sorted(seen) and seen[-1] == 1.0 and len(seen) > 4
+    stop = threading.Event()
+    stop.set()
+    with pytest.raises(Cancelled):
+        plan_fleet(net, settings, stop=stop)
