@@ -111,8 +111,10 @@ def _fields(v: VehicleType) -> dict[str, object]:
     return {k: getattr(v, k) for k in v.__slots__}  # type: ignore[attr-defined]
 
 
-def fleet_summary(network: Network, plan: FleetPlan) -> str:
-    """The human summary of a fleet plan: one line per route and trip, then totals."""
+def fleet_summary(network: Network, plan: FleetPlan, units: dict[str, str] | None = None) -> str:
+    """The human summary of a fleet plan: one line per route and trip, then totals.
+
+    ``units`` maps a vehicle type's name to the unit of its load (``"t"``, ``"m3"``)."""
     unit, name = (1000.0, "km") if network.crs is not None else (1.0, "")
     lines = [
         f"{network.name or 'Network'}: fleet plan, {len(plan.routes)} vehicles, "
@@ -120,13 +122,15 @@ def fleet_summary(network: Network, plan: FleetPlan) -> str:
         f"Method      {plan.method}",
     ]
     for r in plan.routes:
+        load_unit = (units or {}).get(r.vehicle_type, "")
+        load_unit = f" {load_unit}" if load_unit else ""
         lines.append(
             f"Vehicle {r.vehicle}: {len(r.trips)} trips, service {r.service_m / unit:.2f} {name}, "
             f"deadhead {r.deadhead_m / unit:.2f} {name}, {r.minutes:.0f} min"
         )
         for k, t in enumerate(r.trips, 1):
             lines.append(
-                f"  trip {k}: {t.start} -> {t.end}, load {t.load:g}, "
+                f"  trip {k}: {t.start} -> {t.end}, load {t.load:.3g}{load_unit}, "
                 f"service {t.service_m / unit:.2f}, deadhead {t.deadhead_m / unit:.2f}, "
                 f"{t.minutes:.0f} min"
             )
@@ -152,7 +156,7 @@ def run_fleet_plan(network: Network, depot: str | None, args: argparse.Namespace
 
     settings = settings_from_args(network, depot, args)
     plan = plan_fleet(network, settings)
-    print(fleet_summary(network, plan))
+    print(fleet_summary(network, plan, {v.name: v.capacity_unit for v in settings.vehicles}))
     out = args.out or Path(args.input).with_suffix(".plan.json").name
     write_plan(plan, out)
     print(f"Plan written to {out}")
