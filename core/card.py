@@ -93,6 +93,9 @@ class CardMap:
     depot: tuple[float, float] | None
     bounds: tuple[float, float, float, float] | None
     """``(min x, min y, max x, max y)`` of all lines and markers."""
+    background_lines: tuple[tuple[tuple[float, float], ...], ...] = ()
+    """Other streets drawn faintly beneath the circuit (fleet cards: the rest of the
+    network); not part of ``bounds``."""
 
 
 @dataclass(frozen=True, slots=True)
@@ -129,6 +132,8 @@ class CardTotals:
     total_m: float
     hours: float
     material_kg: float
+    extra: tuple[tuple[str, str], ...] = ()
+    """Further labelled lines (fleet cards: load per trip, reload stops)."""
 
 
 @dataclass(frozen=True, slots=True)

@@ -151,6 +151,13 @@ def add_route_options(p: argparse.ArgumentParser) -> None:
         default="right",
         help="the side of the road traffic keeps to: right or left (default right)",
     )
+    p.add_argument(
+        "--stop-minutes",
+        type=float,
+        metavar="MIN",
+        help="fleet plans: minutes of each reload stop in the directions "
+        "(default: 20 sweeping, 15 gritting; see core/fleet/cards.py)",
+    )
 
 
 def plan_with_options(network: Network, depot: str, args: argparse.Namespace) -> Plan:

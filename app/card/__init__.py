@@ -5,6 +5,6 @@ package draws it (:mod:`app.card.render`) and offers ``roundsman card``
 (:mod:`app.card.cli`).
 """
 
-from app.card.render import page_count, print_card, rows_per_page, write_card_pdf
+from app.card.render import page_count, print_card, rows_per_page, write_card_pdf, write_cards_pdf
 
-__all__ = ["page_count", "print_card", "rows_per_page", "write_card_pdf"]
+__all__ = ["page_count", "print_card", "rows_per_page", "write_card_pdf", "write_cards_pdf"]

@@ -18,7 +18,7 @@ see :func:`rows_per_page` and :func:`page_count`):
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
 from PySide6.QtCore import QBuffer, QByteArray, QIODevice, QLineF, QMarginsF, QPointF, QRectF, Qt
@@ -70,9 +70,11 @@ __all__ = [
     "PAGE_SIZES",
     "page_count",
     "paint_card",
+    "paint_cards",
     "print_card",
     "rows_per_page",
     "write_card_pdf",
+    "write_cards_pdf",
 ]
 
 
@@ -383,6 +385,15 @@ def _map(pen: _Pen, content: CardContent, x: float, y: float, w: float, h: float
     p.save()
     p.setClipRect(pen.rect(x, y, w, h))
     dash = Qt.PenStyle.DashLine
+    if m.background_lines:
+        # The rest of the network, faint, beneath this circuit (fleet cards).
+        pen.line_pen(0.15, QColor(205, 205, 205))
+        for line in m.background_lines:
+            path = QPainterPath()
+            path.moveTo(to_page(*line[0]))
+            for q in line[1:]:
+                path.lineTo(to_page(*q))
+            p.drawPath(path)
     for lines, width, colour, style in (
         (m.deadhead_lines, 0.3, GREY, dash),
         (m.service_lines, 0.55, SERVICE_INK, Qt.PenStyle.SolidLine),
@@ -474,6 +485,7 @@ def _totals_block(pen: _Pen, content: CardContent, x: float, y: float, w: float)
     if t.material:
         items.append(("Material", t.material))
     items.append(("Turns", t.turns))
+    items += list(t.extra)
     yy = y + 5.5
     for label, value in items:
         pen.text(x, yy, 34, 4.6, label, 8, colour=GREY)
@@ -556,30 +568,49 @@ def paint_card(
     printed where it overlaps no number already placed).  O(r + v + k²) for r
     rows, v map vertices and k markers (the overlap test scans placed labels).
     """
+    return paint_cards(device, [content], page_size, progress=progress)[0]
+
+
+def paint_cards(
+    device: QPagedPaintDevice,
+    contents: Sequence[CardContent],
+    page_size: str = "A4",
+    *,
+    progress: Callable[[str, float], None] | None = None,
+) -> list[int]:
+    """Draw several cards one after the other (a fleet plan: one per vehicle route);
+    each starts on a new page and has its own header and "page i of n".  Returns the
+    pages of each card.  O(sum of :func:`paint_card`'s costs)."""
     name = check_page_size(page_size)
     page_w, page_h = PAGE_MM[name]
     per_page = _rows_fit(page_h)
-    rows = list(content.rows)
-    chunks = [rows[i : i + per_page] for i in range(0, len(rows), per_page)] or [[]]
-    pages = 1 + len(chunks)
     painter = QPainter()
     if not painter.begin(device):
         raise RoundsmanError("the route card could not be drawn: the output did not open")
+    counts: list[int] = []
     try:
         painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
         painter.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
         pen = _Pen(painter, device.logicalDpiX() / 25.4)
-        _overview_page(pen, content, page_w, page_h)
-        _footer(pen, page_w, page_h, 1, pages)
-        for k, chunk in enumerate(chunks):
-            if progress is not None:
-                progress("drawing the route card", (k + 1) / (len(chunks) + 1))
-            device.newPage()
-            _table_page(pen, content, chunk, page_w, k * per_page)
-            _footer(pen, page_w, page_h, k + 2, pages)
+        for c_index, content in enumerate(contents):
+            rows = list(content.rows)
+            chunks = [rows[i : i + per_page] for i in range(0, len(rows), per_page)] or [[]]
+            pages = 1 + len(chunks)
+            if c_index:
+                device.newPage()
+            _overview_page(pen, content, page_w, page_h)
+            _footer(pen, page_w, page_h, 1, pages)
+            for k, chunk in enumerate(chunks):
+                if progress is not None:
+                    done = (c_index + (k + 1) / (len(chunks) + 1)) / len(contents)
+                    progress("drawing the route card", done)
+                device.newPage()
+                _table_page(pen, content, chunk, page_w, k * per_page)
+                _footer(pen, page_w, page_h, k + 2, pages)
+            counts.append(pages)
     finally:
         painter.end()
-    return pages
+    return counts
 
 
 def _setup(device: QPagedPaintDevice, page_size: str) -> None:
@@ -607,6 +638,32 @@ def card_pdf_bytes(content: CardContent, page_size: str = "A4") -> bytes:
     del writer  # finishes the PDF
     buf.close()
     return bytes(data.data())
+
+
+def cards_pdf_bytes(contents: Sequence[CardContent], page_size: str = "A4") -> bytes:
+    """Several cards in one PDF, each on its own pages (needs a QGuiApplication)."""
+    name = check_page_size(page_size)
+    if not contents:
+        raise RoundsmanError("there is no route card to write")
+    data = QByteArray()
+    buf = QBuffer(data)
+    buf.open(QIODevice.OpenModeFlag.WriteOnly)
+    writer = QPdfWriter(buf)
+    writer.setResolution(RESOLUTION_DPI)
+    writer.setTitle(f"Route cards: {contents[0].header.district}".strip())
+    writer.setCreator(f"Roundsman {__version__}")
+    _setup(writer, name)
+    paint_cards(writer, contents, name)
+    del writer  # finishes the PDF
+    buf.close()
+    return bytes(data.data())
+
+
+def write_cards_pdf(contents: Sequence[CardContent], path: str, page_size: str = "A4") -> list[int]:
+    """Write several cards (one per route) as one PDF atomically; returns each card's pages."""
+    name = check_page_size(page_size)
+    atomic_write_bytes(path, cards_pdf_bytes(contents, name))
+    return [page_count(len(c.rows), name) for c in contents]
 
 
 def write_card_pdf(content: CardContent, path: str, page_size: str = "A4") -> int:

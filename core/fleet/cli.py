@@ -15,9 +15,12 @@ from core.fleet.settings import WEEKDAYS, FleetSettings, VehicleType, settings_f
 from core.model import Network
 
 
-def add_fleet_options(p: argparse.ArgumentParser, *, compare: bool = False) -> None:
+def add_fleet_options(
+    p: argparse.ArgumentParser, *, compare: bool = False, day: bool = True
+) -> None:
     """``--vehicles``, ``--capacity``, ``--max-time``, ``--seed``, ``--day`` and the search
-    time; for ``compare`` ``--vehicles`` takes a comma list."""
+    time; for ``compare`` ``--vehicles`` takes a comma list; ``day=False`` leaves out
+    ``--day`` (``roundsman card`` has its own, printed on the card)."""
     p.add_argument(
         "--vehicles",
         metavar="N[,N...]" if compare else "N",
@@ -37,11 +40,12 @@ def add_fleet_options(p: argparse.ArgumentParser, *, compare: bool = False) -> N
         help="minutes one route may take (default: the file's limit, else none)",
     )
     p.add_argument("--seed", type=int, default=0, help="seed of the route search (default 0)")
-    p.add_argument(
-        "--day",
-        choices=WEEKDAYS,
-        help="plan only the streets serviced on this weekday (street attribute 'days')",
-    )
+    if day:
+        p.add_argument(
+            "--day",
+            choices=WEEKDAYS,
+            help="plan only the streets serviced on this weekday (street attribute 'days')",
+        )
     p.add_argument(
         "--search-time",
         type=float,
@@ -160,9 +164,44 @@ def run_fleet_plan(network: Network, depot: str | None, args: argparse.Namespace
     out = args.out or Path(args.input).with_suffix(".plan.json").name
     write_plan(plan, out)
     print(f"Plan written to {out}")
+    _write_fleet_exports(network, plan, settings, args)
     if not plan.feasible:
         print("roundsman: the plan breaks a rule (see Problem lines)", file=sys.stderr)
     return 0
+
+
+def _write_fleet_exports(
+    network: Network, plan: FleetPlan, settings: FleetSettings, args: argparse.Namespace
+) -> None:
+    """``--gpx``, ``--instructions-csv``, ``--circuit-geojson`` for a fleet plan: every
+    route in one file each (see :mod:`core.files.fleet_exports`)."""
+    paths = [getattr(args, k, None) for k in ("gpx", "instructions_csv", "circuit_geojson")]
+    if not any(paths):
+        return
+    from core.activity import activity_preset
+    from core.files.fleet_exports import write_fleet_exports
+    from core.fleet.cards import fleet_cards, route_exports
+
+    cards = fleet_cards(
+        network,
+        plan,
+        activity=activity_preset(args.activity),
+        drive=args.drive,
+        start=args.start,
+        load_unit=settings.vehicles[0].capacity_unit,
+        capacity=settings.vehicles[0].capacity,
+        stop_minutes=getattr(args, "stop_minutes", None),
+    )
+    done = write_fleet_exports(
+        network,
+        route_exports(cards),
+        gpx=paths[0],
+        csv_path=paths[1],
+        geojson=paths[2],
+        name=network.name,
+    )
+    for line in done:
+        print(line)
 
 
 def add_compare_parser(sub: argparse._SubParsersAction, common: object) -> None:
