@@ -230,9 +230,10 @@ def settings_from_network(
     """Fleet settings from what the file states (``network.meta``), overridden by options.
 
     CARPLIB: one vehicle type at the depot, the file's capacity, as many vehicles as
-    needed (the ``VEHICULOS`` figure is not a hard limit).  Salt-spreading: one vehicle
-    per listed vehicle with its home and capacity, the refill depots, the time limit,
-    routes ending at a refill depot.
+    needed (the ``VEHICULOS`` figure is not a hard limit).  When ``vehicles`` limits the
+    fleet and no refill site is named, the depot is one, so trips can follow each other.
+    Salt-spreading: one vehicle per listed vehicle with its home and capacity, the refill
+    depots, the time limit, routes ending at a refill depot.
     """
     meta = network.meta or {}
     base = base or VehicleType()
@@ -264,4 +265,9 @@ def settings_from_network(
         types = [replace(t, max_time_min=max_time_min) for t in types]
     if vehicles is not None:
         types = [replace(types[0], count=vehicles)] if len(types) == 1 else types[:vehicles]
+        depot = types[0].home or network.depot
+        if not refills and depot is not None and len(types) == 1:
+            # A limited fleet with no refill site named reloads where it starts: the depot
+            # (common practice: the salt store or tipping point is at the depot).
+            refills = (depot,)
     return FleetSettings(vehicles=tuple(types), refill_sites=refills, **kwargs)
