@@ -15,20 +15,8 @@ from pathlib import Path
 
 
 def atomic_write_text(path: str | os.PathLike[str], text: str, encoding: str = "utf-8") -> None:
-    """Write ``text`` to ``path`` atomically (temporary file + rename)."""
-    target = Path(path)
-    folder = target.parent if str(target.parent) else Path(".")
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(fd, "w", encoding=encoding, newline="\n") as fh:
-            fh.write(text)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, target)
-    except BaseException:
-        with contextlib.suppress(FileNotFoundError):
-            os.unlink(tmp)
-        raise
+    """Write ``text`` to ``path`` atomically, lines ending in ``\n`` on every platform."""
+    atomic_write_bytes(path, text.encode(encoding))
 
 
 def atomic_write_bytes(path: str | os.PathLike[str], data: bytes) -> None:
