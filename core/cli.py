@@ -28,7 +28,7 @@ from __future__ import annotations
 import argparse
 import re
 import sys
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -158,6 +158,51 @@ def add_route_options(p: argparse.ArgumentParser) -> None:
         help="fleet plans: minutes of each reload stop in the directions "
         "(default: 20 sweeping, 15 gritting; see core/fleet/cards.py)",
     )
+
+
+def add_engine_options(p: argparse.ArgumentParser) -> None:
+    """``--time-limit`` and ``--strategy``: how hard the circuit engine may try."""
+    p.add_argument(
+        "--time-limit",
+        type=float,
+        default=30.0,
+        metavar="S",
+        help="seconds the integer programs may use (mixed and rural cases; default 30)",
+    )
+    p.add_argument(
+        "--strategy",
+        choices=("auto", "heuristic"),
+        default="auto",
+        help="auto: exact where the time allows (default); heuristic: skip the integer programs",
+    )
+
+
+def add_snap_option(p: argparse.ArgumentParser) -> None:
+    """``--snap``: how near GeoJSON line ends must be to join."""
+    p.add_argument(
+        "--snap",
+        type=float,
+        default=0.5,
+        metavar="M",
+        help="GeoJSON: join line ends closer than this many metres (default 0.5)",
+    )
+
+
+def run_reporting(prog: str, run: Callable[[], int]) -> int:
+    """Call ``run()``; an error the user can cause becomes one line on stderr naming
+    ``prog``, with exit status :data:`EXIT_ERROR` (130 when stopped by Ctrl+C)."""
+    try:
+        return int(run())
+    except RoundsmanError as exc:
+        print(f"{prog}: error: {exc}", file=sys.stderr)
+        return EXIT_ERROR
+    except OSError as exc:
+        name = getattr(exc, "filename", None)
+        print(f"{prog}: error: {name + ': ' if name else ''}{exc.strerror or exc}", file=sys.stderr)
+        return EXIT_ERROR
+    except KeyboardInterrupt:
+        print(f"{prog}: stopped", file=sys.stderr)
+        return 130
 
 
 def plan_with_options(network: Network, depot: str, args: argparse.Namespace) -> Plan:
@@ -314,13 +359,7 @@ def build_parser() -> argparse.ArgumentParser:
             help="network file: GeoJSON, GeoPackage, OpenStreetMap (.osm, .osm.pbf), "
             "Roundsman project, CARPLIB .dat or salt-spreading JSON (recognised by content)",
         )
-        p.add_argument(
-            "--snap",
-            type=float,
-            default=0.5,
-            metavar="M",
-            help="GeoJSON: join line ends closer than this many metres (default 0.5)",
-        )
+        add_snap_option(p)
         p.add_argument("--layer", help="GeoPackage: the line layer to read")
         p.add_argument(
             "--highways",
@@ -365,19 +404,7 @@ def build_parser() -> argparse.ArgumentParser:
         metavar="PLAN.json",
         help="where to write the plan (default: INPUT name with .plan.json, in the current folder)",
     )
-    p.add_argument(
-        "--time-limit",
-        type=float,
-        default=30.0,
-        metavar="S",
-        help="seconds the integer programs may use (mixed and rural cases; default 30)",
-    )
-    p.add_argument(
-        "--strategy",
-        choices=("auto", "heuristic"),
-        default="auto",
-        help="auto: exact where the time allows (default); heuristic: skip the integer programs",
-    )
+    add_engine_options(p)
     p.add_argument(
         "--uturn-detours",
         choices=("auto", "on", "off"),
@@ -425,20 +452,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     if args.command is None:
         parser.print_help()
         return 0
-    try:
-        return int(args.func(args))
-    except RoundsmanError as exc:
-        print(f"roundsman: error: {exc}", file=sys.stderr)
-        return EXIT_ERROR
-    except OSError as exc:
-        name = getattr(exc, "filename", None)
-        print(
-            f"roundsman: error: {name + ': ' if name else ''}{exc.strerror or exc}", file=sys.stderr
-        )
-        return EXIT_ERROR
-    except KeyboardInterrupt:
-        print("roundsman: stopped", file=sys.stderr)
-        return 130
+    return run_reporting("roundsman", lambda: args.func(args))
 
 
 if __name__ == "__main__":

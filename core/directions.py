@@ -431,24 +431,31 @@ def build_directions(
         n = network.nodes[node_id]
         return (float(n.x), float(n.y)) if n.has_xy else None  # type: ignore[arg-type]
 
-    def add_stop(ev: StopEvent, node: str) -> None:
-        nonlocal t_s, stop_s, serving
+    def add_at_node(
+        kind: str,
+        text: str,
+        node: str,
+        position: tuple[float, float] | None,
+        duration_s: float = 0.0,
+        note: str = "",
+    ) -> None:
+        """A row that drives nowhere (stop, arrive): brushes up first if they were down."""
+        nonlocal serving
         events: tuple[ServiceEvent, ...] = ()
         if serving:
             events = (ServiceEvent(False, 0.0, pos_m, activity.service_off),)
             serving = False
-        dur = max(0.0, ev.minutes) * 60.0
         rows.append(
             Instruction(
                 number=len(rows) + 1,
-                kind=Kind.STOP,
-                text=f"Stop: {ev.note}",
+                kind=kind,
+                text=text,
                 street="",
                 turn=None,
                 angle=0.0,
                 across_traffic=False,
                 node=node,
-                position=node_xy(node),
+                position=position,
                 steps=(),
                 segments=(),
                 length_m=0.0,
@@ -457,11 +464,16 @@ def build_directions(
                 deadhead_m=0.0,
                 events=events,
                 start_s=t_s,
-                duration_s=dur,
+                duration_s=duration_s,
                 clock=_clock(begin, t_s),
-                note=ev.note,
+                note=note,
             )
         )
+
+    def add_stop(ev: StopEvent, node: str) -> None:
+        nonlocal t_s, stop_s
+        dur = max(0.0, ev.minutes) * 60.0
+        add_at_node(Kind.STOP, f"Stop: {ev.note}", node, node_xy(node), dur, ev.note)
         t_s += dur
         stop_s += dur
 
@@ -566,32 +578,12 @@ def build_directions(
     if len(steps) in stop_map:
         add_stop(stop_map[len(steps)], end_node)
     if steps or stop_map:
-        events_end: tuple[ServiceEvent, ...] = ()
-        if serving:
-            events_end = (ServiceEvent(False, 0.0, pos_m, activity.service_off),)
         back = bool(steps) and end_node == steps[0].start
-        rows.append(
-            Instruction(
-                number=len(rows) + 1,
-                kind=Kind.ARRIVE,
-                text=f"Arrive back at {depot_label}" if back else f"Arrive at node {end_node}",
-                street="",
-                turn=None,
-                angle=0.0,
-                across_traffic=False,
-                node=end_node,
-                position=node_xy(end_node) if end_node in network.nodes else None,
-                steps=(),
-                segments=(),
-                length_m=0.0,
-                start_m=pos_m,
-                service_m=0.0,
-                deadhead_m=0.0,
-                events=events_end,
-                start_s=t_s,
-                duration_s=0.0,
-                clock=_clock(begin, t_s),
-            )
+        add_at_node(
+            Kind.ARRIVE,
+            f"Arrive back at {depot_label}" if back else f"Arrive at node {end_node}",
+            end_node,
+            node_xy(end_node) if end_node in network.nodes else None,
         )
     return Directions(
         instructions=tuple(rows),

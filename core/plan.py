@@ -75,8 +75,30 @@ class TurnCounts:
         return self.straight + self.bear_left + self.bear_right
 
 
+class StepTotals:
+    """Mixin: the totals of a ``steps`` list of :class:`Step` (plans and fleet trips).
+
+    Each property is one compensated sum over the steps (``math.fsum``), O(n).
+    """
+
+    __slots__ = ()
+    steps: list[Step]
+
+    @property
+    def total_m(self) -> float:
+        return math.fsum(s.length for s in self.steps)
+
+    @property
+    def service_m(self) -> float:
+        return math.fsum(s.length for s in self.steps if s.service)
+
+    @property
+    def deadhead_m(self) -> float:
+        return math.fsum(s.length for s in self.steps if not s.service)
+
+
 @dataclass(slots=True)
-class Plan:
+class Plan(StepTotals):
     """A closed circuit from the depot with its figures.
 
     ``lower_bound_m`` is a proven lower bound on the shortest possible
@@ -94,18 +116,6 @@ class Plan:
     network_name: str = ""
     turns: TurnCounts | None = None
     """Turn counts of the circuit (``None`` for plans read from files without them)."""
-
-    @property
-    def total_m(self) -> float:
-        return math.fsum(s.length for s in self.steps)
-
-    @property
-    def service_m(self) -> float:
-        return math.fsum(s.length for s in self.steps if s.service)
-
-    @property
-    def deadhead_m(self) -> float:
-        return math.fsum(s.length for s in self.steps if not s.service)
 
     @property
     def gap(self) -> float:

@@ -138,6 +138,16 @@ class StreetItem(QGraphicsPathItem):
         return _distance_to_polyline(x, y, np.asarray(self.coords, dtype=float))
 
 
+def _in_rect(xy: np.ndarray, r: QRectF) -> np.ndarray:
+    """Which rows of the (n, 2) array ``xy`` lie in ``r`` (edges included); O(n), vectorised."""
+    return (
+        (xy[:, 0] >= r.left())
+        & (xy[:, 0] <= r.right())
+        & (xy[:, 1] >= r.top())
+        & (xy[:, 1] <= r.bottom())
+    )
+
+
 class _LayerItem(QGraphicsItem):
     """An item covering the whole scene that draws many small marks itself."""
 
@@ -202,12 +212,7 @@ class ArrowLayer(_LayerItem):
         if len(mids) == 0:
             return
         r = option.exposedRect
-        inside = (
-            (mids[:, 0] >= r.left())
-            & (mids[:, 0] <= r.right())
-            & (mids[:, 1] >= r.top())
-            & (mids[:, 1] <= r.bottom())
-        )
+        inside = _in_rect(mids, r)
         size = ARROW_PX / lod
         painter.setPen(Qt.PenStyle.NoPen)
         painter.setBrush(QBrush(QColor(ARROW_COLOUR)))
@@ -233,12 +238,7 @@ class NodeLayer(_LayerItem):
         if len(xy) == 0:
             return
         r = option.exposedRect
-        inside = (
-            (xy[:, 0] >= r.left())
-            & (xy[:, 0] <= r.right())
-            & (xy[:, 1] >= r.top())
-            & (xy[:, 1] <= r.bottom())
-        )
+        inside = _in_rect(xy, r)
         half = NODE_PX / lod / 2
         painter.setPen(QPen(QColor("#FFFFFF"), 0))
         painter.setBrush(QBrush(QColor(NODE_COLOUR)))
@@ -278,12 +278,7 @@ class LabelLayer(_LayerItem):
         if len(mids) == 0:
             return
         r = option.exposedRect
-        inside = (
-            (mids[:, 0] >= r.left())
-            & (mids[:, 0] <= r.right())
-            & (mids[:, 1] >= r.top())
-            & (mids[:, 1] <= r.bottom())
-        )
+        inside = _in_rect(mids, r)
         font = QFont(painter.font())
         font.setPointSizeF(8.0)
         painter.setFont(font)

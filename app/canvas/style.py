@@ -39,14 +39,20 @@ class StreetLook:
     dashes: tuple[float, ...] = ()
 
     def pen(self, *, selected: bool = False) -> QPen:
-        colour = QColor(OI_REDDISH_PURPLE if selected else self.colour)
-        pen = QPen(colour, self.width + (2.5 if selected else 0.0))
-        pen.setCosmetic(True)
-        pen.setCapStyle(Qt.PenCapStyle.FlatCap)
-        pen.setJoinStyle(Qt.PenJoinStyle.RoundJoin)
-        if self.dashes:
-            pen.setDashPattern(list(self.dashes))
-        return pen
+        colour = OI_REDDISH_PURPLE if selected else self.colour
+        return line_pen(colour, self.width + (2.5 if selected else 0.0), self.dashes)
+
+
+def line_pen(colour: str, width: float, dashes: tuple[float, ...] = ()) -> QPen:
+    """A cosmetic pen (``width`` in screen pixels at any zoom) with flat caps and round
+    joins, dashed when ``dashes`` is given; for streets and the passes drawn over them."""
+    pen = QPen(QColor(colour), width)
+    pen.setCosmetic(True)
+    pen.setCapStyle(Qt.PenCapStyle.FlatCap)
+    pen.setJoinStyle(Qt.PenJoinStyle.RoundJoin)
+    if dashes:
+        pen.setDashPattern(list(dashes))
+    return pen
 
 
 LOOKS: dict[Service, StreetLook] = {

@@ -22,11 +22,11 @@ Depot (H)          put the depot at the junction (or cut the street there)
 from __future__ import annotations
 
 from collections.abc import Callable
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, TypeVar
 
 from PySide6.QtCore import QLineF, QPointF, QRectF, Qt
 from PySide6.QtGui import QColor, QMouseEvent, QPen
-from PySide6.QtWidgets import QGraphicsLineItem, QGraphicsRectItem
+from PySide6.QtWidgets import QAbstractGraphicsShapeItem, QGraphicsLineItem, QGraphicsRectItem
 from shapely.geometry import LineString, Point
 
 from app.canvas.coords import from_scene, to_scene
@@ -39,6 +39,9 @@ if TYPE_CHECKING:
     from app.canvas.scene import StreetItem, StreetScene
     from app.canvas.view import CanvasView
     from app.document import NetworkDocument
+
+_PenItem = TypeVar("_PenItem", QAbstractGraphicsShapeItem, QGraphicsLineItem)
+"""A feedback item that takes a pen (both kinds have ``setPen`` but no common base with it)."""
 
 
 def _distance(seg: Segment, x: float, y: float) -> float:
@@ -94,10 +97,14 @@ class Tool:
         try:
             edit = make()
         except (NetworkError, ValueError) as exc:
-            self.view.message.emit(getattr(exc, "message", str(exc)))
+            self.report(exc)
             return None
         self.document.apply_edit(edit)
         return edit
+
+    def report(self, exc: Exception) -> None:
+        """Show why an edit was refused in the status line."""
+        self.view.message.emit(getattr(exc, "message", str(exc)))
 
     def street_at(self, pos: QPointF) -> str | None:
         near = self.scene.streets_near(pos, self.view.snap_distance())
@@ -105,6 +112,34 @@ class Tool:
 
     def node_at(self, pos: QPointF) -> str | None:
         return self.scene.node_near(pos, self.view.snap_distance())
+
+    def left_street(self, event: QMouseEvent, pos: QPointF) -> str | None:
+        """The street under a left click; None for other buttons or open ground."""
+        return self.street_at(pos) if event.button() == Qt.MouseButton.LeftButton else None
+
+    def junction_or_street(self, pos: QPointF) -> tuple[str | None, str | None]:
+        """The junction under ``pos``, else (None and) the street under it; a junction wins."""
+        node = self.node_at(pos)
+        return node, (self.street_at(pos) if node is None else None)
+
+    def left_press(self, event: QMouseEvent) -> bool:
+        """True for a left-button press; a right-button press cancels what the tool was doing."""
+        if event.button() == Qt.MouseButton.RightButton:
+            self.cancel()
+            return False
+        return event.button() == Qt.MouseButton.LeftButton
+
+    def add_feedback(
+        self, item: _PenItem, colour: QColor, width: float, z: float = Z_FEEDBACK
+    ) -> _PenItem:
+        """Put a dashed, cosmetic-pen feedback ``item`` (rubber band, line) on the scene at
+        height ``z`` (by default over the streets)."""
+        pen = QPen(colour, width, Qt.PenStyle.DashLine)
+        pen.setCosmetic(True)
+        item.setPen(pen)
+        item.setZValue(z)
+        self.scene.addItem(item)
+        return item
 
 
 class PickTool(Tool):
@@ -141,12 +176,8 @@ class PickTool(Tool):
             return
         self._origin = pos
         self._band = QGraphicsRectItem()
-        pen = QPen(QColor("#0072B2"), 1, Qt.PenStyle.DashLine)
-        pen.setCosmetic(True)
-        self._band.setPen(pen)
         self._band.setBrush(QColor(0, 114, 178, 30))
-        self._band.setZValue(Z_FEEDBACK)
-        self.scene.addItem(self._band)
+        self.add_feedback(self._band, QColor("#0072B2"), 1)
         self._band.setRect(QRectF(pos, pos))
 
     def move(self, event: QMouseEvent, pos: QPointF) -> None:
@@ -219,10 +250,7 @@ class LayStreetTool(Tool):
         return edit.created_nodes[0], edit
 
     def press(self, event: QMouseEvent, pos: QPointF) -> None:
-        if event.button() == Qt.MouseButton.RightButton:
-            self.cancel()
-            return
-        if event.button() != Qt.MouseButton.LeftButton:
+        if not self.left_press(event):
             return
         net = self.document.network
         if self._start is None or (self._start and self._start not in net.nodes):
@@ -236,23 +264,23 @@ class LayStreetTool(Tool):
         # one undoable edit: make the start (if new), make the end, lay the street
         scratch = net.copy()
         edits: list[ed.Edit] = []
-        try:
-            start = self._start
-            if not start:
-                start, e = self._anchor(self._start_pos, scratch)
-                if e is not None:
-                    e.apply(scratch)
-                    edits.append(e)
-            fresh = [k for e in edits for k in e.created_segments]
-            end, e = self._anchor(pos, scratch, fresh)
+
+        def keep(anchor: tuple[str, ed.Edit | None]) -> str:
+            node, e = anchor
             if e is not None:
                 e.apply(scratch)
                 edits.append(e)
+            return node
+
+        try:
+            start = self._start or keep(self._anchor(self._start_pos, scratch))
+            fresh = [k for e in edits for k in e.created_segments]
+            end = keep(self._anchor(pos, scratch, fresh))
             if end == start:
                 return
             edits.append(ed.add_street(scratch, start, end))
         except (NetworkError, ValueError) as exc:
-            self.view.message.emit(getattr(exc, "message", str(exc)))
+            self.report(exc)
             return
         self.document.apply_edit(ed.combine("Lay street", edits))
         self._start = end
@@ -264,12 +292,7 @@ class LayStreetTool(Tool):
         node = self.document.network.nodes.get(self._start)
         origin = to_scene(node.x, node.y) if node is not None else self._start_pos
         if self._line is None:
-            self._line = QGraphicsLineItem()
-            pen = QPen(QColor("#000000"), 1.5, Qt.PenStyle.DashLine)
-            pen.setCosmetic(True)
-            self._line.setPen(pen)
-            self._line.setZValue(Z_FEEDBACK)
-            self.scene.addItem(self._line)
+            self._line = self.add_feedback(QGraphicsLineItem(), QColor("#000000"), 1.5)
         self._line.setLine(QLineF(origin, pos))
 
     def move(self, event: QMouseEvent, pos: QPointF) -> None:
@@ -317,12 +340,16 @@ class MoveJunctionTool(Tool):
         if (start.x, start.y) == (x, y):
             return
         if self.run(lambda: ed.move_node(self.document.network, node, x, y)) is None:
-            self.scene.on_changed(set(ed.attached(self.document.network, node)), {node})
+            self._redraw(node)
 
     def cancel(self) -> None:
         if self._node is not None:
             node, self._node = self._node, None
-            self.scene.on_changed(set(ed.attached(self.document.network, node)), {node})
+            self._redraw(node)
+
+    def _redraw(self, node: str) -> None:
+        """Put the junction and its streets back where the model has them."""
+        self.scene.on_changed(set(ed.attached(self.document.network, node)), {node})
 
 
 class CutTool(Tool):
@@ -333,7 +360,7 @@ class CutTool(Tool):
     cursor = Qt.CursorShape.CrossCursor
 
     def press(self, event: QMouseEvent, pos: QPointF) -> None:
-        street = self.street_at(pos) if event.button() == Qt.MouseButton.LeftButton else None
+        street = self.left_street(event, pos)
         if street is not None:
             x, y = from_scene(pos)
             self.run(lambda: ed.split_street(self.document.network, street, x, y))
@@ -350,12 +377,10 @@ class EraseTool(Tool):
         if event.button() != Qt.MouseButton.LeftButton:
             return
         net = self.document.network
-        node = self.node_at(pos)
+        node, street = self.junction_or_street(pos)
         if node is not None:
             self.run(lambda: ed.delete(net, nodes=[node]))
-            return
-        street = self.street_at(pos)
-        if street is not None:
+        elif street is not None:
             self.run(lambda: ed.delete(net, segments=[street]))
 
 
@@ -370,7 +395,7 @@ class DirectionTool(Tool):
     cursor = Qt.CursorShape.PointingHandCursor
 
     def press(self, event: QMouseEvent, pos: QPointF) -> None:
-        street = self.street_at(pos) if event.button() == Qt.MouseButton.LeftButton else None
+        street = self.left_street(event, pos)
         if street is None:
             return
         net = self.document.network
@@ -394,7 +419,7 @@ class ServiceBrushTool(Tool):
         self.service = Service.EITHER
 
     def press(self, event: QMouseEvent, pos: QPointF) -> None:
-        street = self.street_at(pos) if event.button() == Qt.MouseButton.LeftButton else None
+        street = self.left_street(event, pos)
         if street is not None:
             self.run(lambda: ed.set_service(self.document.network, [street], self.service))
 
@@ -410,11 +435,10 @@ class DepotTool(Tool):
         if event.button() != Qt.MouseButton.LeftButton:
             return
         net = self.document.network
-        node = self.node_at(pos)
+        node, street = self.junction_or_street(pos)
         if node is not None:
             self.run(lambda: ed.set_depot(net, node))
             return
-        street = self.street_at(pos)
         if street is None:
             self.view.message.emit("Depot: click on a junction or a street.")
             return

@@ -24,12 +24,14 @@ import sys
 from collections.abc import Sequence
 
 from core.cli import (
-    EXIT_ERROR,
+    add_engine_options,
     add_route_options,
+    add_snap_option,
     directions_for,
     load_network,
     plan_with_options,
     resolve_depot,
+    run_reporting,
 )
 from core.errors import RoundsmanError
 from core.fleet.cli import add_fleet_options
@@ -70,26 +72,8 @@ def build_parser() -> argparse.ArgumentParser:
         help="one card for one circuit, whatever capacity or vehicles the file states",
     )
     add_fleet_options(p, day=False)
-    p.add_argument(
-        "--snap",
-        type=float,
-        default=0.5,
-        metavar="M",
-        help="GeoJSON: join line ends closer than this many metres (default 0.5)",
-    )
-    p.add_argument(
-        "--time-limit",
-        type=float,
-        default=30.0,
-        metavar="S",
-        help="seconds the integer programs may use (default 30)",
-    )
-    p.add_argument(
-        "--strategy",
-        choices=("auto", "heuristic"),
-        default="auto",
-        help="auto: exact where the time allows (default); heuristic: skip the integer programs",
-    )
+    add_snap_option(p)
+    add_engine_options(p)
     return p
 
 
@@ -189,9 +173,7 @@ def _run_fleet(
 ) -> int:
     """One card per vehicle route, all in one PDF (each route its own pages)."""
     from app.card.render import write_cards_pdf
-    from core.activity import activity_preset
-    from core.fleet.cards import fleet_cards
-    from core.fleet.cli import fleet_summary, settings_from_args
+    from core.fleet.cli import cards_from_args, fleet_summary, settings_from_args
 
     ns = _fleet_args(args)
     if doc is not None:
@@ -212,17 +194,8 @@ def _run_fleet(
         print(fleet_summary(network, plan))
     if not plan.feasible:
         print("Warning: the fleet plan breaks a rule; the cards show it as it is.", file=sys.stderr)
-    cards = fleet_cards(
-        network,
-        plan,
-        activity=activity_preset(args.activity),
-        drive=args.drive,
-        start=args.start,
-        day=args.day or None,
-        vehicle_prefix=args.vehicle,
-        load_unit=settings.vehicles[0].capacity_unit,
-        capacity=settings.vehicles[0].capacity,
-        stop_minutes=args.stop_minutes,
+    cards = cards_from_args(
+        network, plan, settings, args, day=args.day or None, vehicle_prefix=args.vehicle
     )
     ensure_gui_app()
     pages = write_cards_pdf([c.content for c in cards], args.pdf, page)
@@ -235,18 +208,4 @@ def _run_fleet(
 
 def main(argv: Sequence[str] | None = None) -> int:
     args = build_parser().parse_args(list(sys.argv[2:] if argv is None else argv))
-    try:
-        return _run(args)
-    except RoundsmanError as exc:
-        print(f"roundsman card: error: {exc}", file=sys.stderr)
-        return EXIT_ERROR
-    except OSError as exc:
-        name = getattr(exc, "filename", None)
-        print(
-            f"roundsman card: error: {name + ': ' if name else ''}{exc.strerror or exc}",
-            file=sys.stderr,
-        )
-        return EXIT_ERROR
-    except KeyboardInterrupt:
-        print("roundsman card: stopped", file=sys.stderr)
-        return 130
+    return run_reporting("roundsman card", lambda: _run(args))

@@ -623,21 +623,27 @@ def _setup(device: QPagedPaintDevice, page_size: str) -> None:
     device.setPageLayout(layout)
 
 
-def card_pdf_bytes(content: CardContent, page_size: str = "A4") -> bytes:
-    """The card as PDF bytes (needs a QGuiApplication)."""
-    name = check_page_size(page_size)
+def _pdf_bytes(title: str, page_size: str, paint: Callable[[QPdfWriter], object]) -> bytes:
+    """A PDF in memory: a writer titled ``title`` on ``page_size`` paper, drawn by ``paint``."""
     data = QByteArray()
     buf = QBuffer(data)
     buf.open(QIODevice.OpenModeFlag.WriteOnly)
     writer = QPdfWriter(buf)
     writer.setResolution(RESOLUTION_DPI)
-    writer.setTitle(f"Route card: {content.header.district} {content.header.route}".strip())
+    writer.setTitle(title)
     writer.setCreator(f"Roundsman {__version__}")
-    _setup(writer, name)
-    paint_card(writer, content, name)
+    _setup(writer, page_size)
+    paint(writer)
     del writer  # finishes the PDF
     buf.close()
     return bytes(data.data())
+
+
+def card_pdf_bytes(content: CardContent, page_size: str = "A4") -> bytes:
+    """The card as PDF bytes (needs a QGuiApplication)."""
+    name = check_page_size(page_size)
+    title = f"Route card: {content.header.district} {content.header.route}".strip()
+    return _pdf_bytes(title, name, lambda writer: paint_card(writer, content, name))
 
 
 def cards_pdf_bytes(contents: Sequence[CardContent], page_size: str = "A4") -> bytes:
@@ -645,18 +651,8 @@ def cards_pdf_bytes(contents: Sequence[CardContent], page_size: str = "A4") -> b
     name = check_page_size(page_size)
     if not contents:
         raise RoundsmanError("there is no route card to write")
-    data = QByteArray()
-    buf = QBuffer(data)
-    buf.open(QIODevice.OpenModeFlag.WriteOnly)
-    writer = QPdfWriter(buf)
-    writer.setResolution(RESOLUTION_DPI)
-    writer.setTitle(f"Route cards: {contents[0].header.district}".strip())
-    writer.setCreator(f"Roundsman {__version__}")
-    _setup(writer, name)
-    paint_cards(writer, contents, name)
-    del writer  # finishes the PDF
-    buf.close()
-    return bytes(data.data())
+    title = f"Route cards: {contents[0].header.district}".strip()
+    return _pdf_bytes(title, name, lambda writer: paint_cards(writer, contents, name))
 
 
 def write_cards_pdf(contents: Sequence[CardContent], path: str, page_size: str = "A4") -> list[int]:

@@ -12,7 +12,7 @@ from __future__ import annotations
 from collections.abc import Callable
 
 from PySide6.QtCore import QEvent, QObject, QPointF, Qt
-from PySide6.QtGui import QColor, QKeyEvent, QMouseEvent, QPainterPath, QPen
+from PySide6.QtGui import QColor, QKeyEvent, QMouseEvent, QPainterPath
 from PySide6.QtWidgets import QGraphicsPathItem
 
 from app.canvas.coords import from_scene, to_scene
@@ -70,10 +70,7 @@ class BoundaryTool(Tool):
         self.cancel()
 
     def press(self, event: QMouseEvent, pos: QPointF) -> None:
-        if event.button() == Qt.MouseButton.RightButton:
-            self.cancel()
-            return
-        if event.button() != Qt.MouseButton.LeftButton:
+        if not self.left_press(event):
             return
         x, y = from_scene(pos)
         if self.points:
@@ -113,12 +110,9 @@ class BoundaryTool(Tool):
 
     def _draw(self) -> None:
         if self._item is None:
-            self._item = QGraphicsPathItem()
-            pen = QPen(QColor(BOUNDARY_COLOUR), 2.0, Qt.PenStyle.DashLine)
-            pen.setCosmetic(True)
-            self._item.setPen(pen)
-            self._item.setZValue(Z_BOUNDARY_DRAFT)
-            self.scene.addItem(self._item)
+            self._item = self.add_feedback(
+                QGraphicsPathItem(), QColor(BOUNDARY_COLOUR), 2.0, Z_BOUNDARY_DRAFT
+            )
         path = QPainterPath()
         pts = [to_scene(x, y) for x, y in self.points]
         if self._hover is not None:

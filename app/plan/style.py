@@ -20,6 +20,8 @@ from dataclasses import dataclass
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QColor, QPen
 
+from app.canvas.style import line_pen
+
 # Paul Tol (2021): yellow of the high-contrast scheme; magenta and red of the vibrant one.
 TOL_YELLOW = "#DDAA33"
 TOL_MAGENTA = "#EE3377"
@@ -50,13 +52,7 @@ class PassLook:
     dashes: tuple[float, ...] = ()
 
     def pen(self) -> QPen:
-        pen = QPen(QColor(self.colour), self.width)
-        pen.setCosmetic(True)
-        pen.setCapStyle(Qt.PenCapStyle.FlatCap)
-        pen.setJoinStyle(Qt.PenJoinStyle.RoundJoin)
-        if self.dashes:
-            pen.setDashPattern(list(self.dashes))
-        return pen
+        return line_pen(self.colour, self.width, self.dashes)
 
 
 SERVICE = PassLook("Service pass", "the crew works this street", INK, 2.5)

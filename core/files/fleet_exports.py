@@ -30,12 +30,11 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
-from core import __version__
 from core.directions import Directions, Instruction, Kind
 from core.errors import NetworkError
 from core.files.atomic import atomic_write_text
 from core.files.circuit_geojson import circuit_geojson
-from core.files.gpx import DECIMALS, GPX_NS, circuit_lonlat
+from core.files.gpx import GPX_NS, circuit_lonlat, gpx_child, gpx_point, gpx_root
 from core.files.instructions_csv import COLUMNS, instruction_row
 from core.geo import to_lonlat
 from core.model import Network
@@ -52,8 +51,6 @@ __all__ = [
 FLEET_COLUMNS: tuple[str, ...] = ("route", "vehicle", "trip", *COLUMNS)
 """The fleet CSV's columns: route number, vehicle id, trip number, then the instruction's."""
 
-_XSI = "http://www.w3.org/2001/XMLSchema-instance"
-
 
 @dataclass(frozen=True, slots=True)
 class RouteExport:
@@ -66,15 +63,6 @@ class RouteExport:
     directions: Directions
     trip_of_step: tuple[int, ...]
     """1-based trip number of each step of ``directions.steps``."""
-
-
-def _pt(parent: ET.Element, tag: str, lon: float, lat: float) -> ET.Element:
-    attrs = {"lat": f"{lat:.{DECIMALS}f}", "lon": f"{lon:.{DECIMALS}f}"}
-    return ET.SubElement(parent, f"{{{GPX_NS}}}{tag}", attrs)
-
-
-def _text(parent: ET.Element, tag: str, text: str) -> None:
-    ET.SubElement(parent, f"{{{GPX_NS}}}{tag}").text = text
 
 
 def fleet_gpx_text(
@@ -90,27 +78,13 @@ def fleet_gpx_text(
             f"GPX needs map coordinates, and the network {network.name or ''} has none "
             "(research formats carry lengths only)".replace("  ", " ")
         )
-    ET.register_namespace("", GPX_NS)
-    ET.register_namespace("xsi", _XSI)
-    root = ET.Element(
-        f"{{{GPX_NS}}}gpx",
-        {
-            "version": "1.1",
-            "creator": f"Roundsman {__version__}",
-            f"{{{_XSI}}}schemaLocation": f"{GPX_NS} {GPX_NS}/gpx.xsd",
-        },
-    )
     title = name or network.name or "fleet plan"
-    meta = ET.SubElement(root, f"{{{GPX_NS}}}metadata")
-    _text(meta, "name", title)
-    _text(meta, "desc", f"fleet plan from Roundsman, {len(routes)} routes (advisory)")
-    stamp = (time or dt.datetime.now(dt.UTC)).astimezone(dt.UTC)
-    _text(meta, "time", stamp.strftime("%Y-%m-%dT%H:%M:%SZ"))
+    root = gpx_root(title, f"fleet plan from Roundsman, {len(routes)} routes (advisory)", time)
     to_ll = to_lonlat(network.crs) if network.crs else None
     for r in routes:
         rte = ET.SubElement(root, f"{{{GPX_NS}}}rte")
-        _text(rte, "name", f"{r.name}: instructions")
-        _text(rte, "number", str(r.number))
+        gpx_child(rte, "name", f"{r.name}: instructions")
+        gpx_child(rte, "number", str(r.number))
         rows = [i for i in r.directions.instructions if i.position is not None]
         if rows and to_ll is not None:
             lon, lat = to_ll.transform(
@@ -118,15 +92,15 @@ def fleet_gpx_text(
                 [i.position[1] for i in rows],  # type: ignore[index]
             )
             for k, row in enumerate(rows):
-                pt = _pt(rte, "rtept", float(lon[k]), float(lat[k]))
-                _text(pt, "name", str(row.number))
+                pt = gpx_point(rte, "rtept", float(lon[k]), float(lat[k]))
+                gpx_child(pt, "name", str(row.number))
                 extra = f" ({row.service_text})" if row.service_text else ""
-                _text(pt, "desc", row.text + extra)
+                gpx_child(pt, "desc", row.text + extra)
     for r in routes:
         trk = ET.SubElement(root, f"{{{GPX_NS}}}trk")
-        _text(trk, "name", r.name)
-        _text(trk, "number", str(r.number))
-        _text(trk, "type", r.directions.activity.name)
+        gpx_child(trk, "name", r.name)
+        gpx_child(trk, "number", str(r.number))
+        gpx_child(trk, "type", r.directions.activity.name)
         lines = circuit_lonlat(network, r.directions.steps)
         current, seg, last = 0, None, None
         for trip, line in zip(r.trip_of_step, lines, strict=True):
@@ -134,7 +108,7 @@ def fleet_gpx_text(
                 seg, current, last = ET.SubElement(trk, f"{{{GPX_NS}}}trkseg"), trip, None
             for p in line:
                 if p != last:  # the junction shared by two passes once
-                    _pt(seg, "trkpt", p[0], p[1])  # type: ignore[arg-type]
+                    gpx_point(seg, "trkpt", p[0], p[1])  # type: ignore[arg-type]
                     last = p
     ET.indent(root, space=" ")
     body = ET.tostring(root, encoding="unicode")

@@ -35,6 +35,7 @@ from core.plan import Step
 GPX_NS = "http://www.topografix.com/GPX/1/1"
 """The GPX 1.1 namespace."""
 GPX_SCHEMA = "http://www.topografix.com/GPX/1/1/gpx.xsd"
+_XSI = "http://www.w3.org/2001/XMLSchema-instance"
 DECIMALS = 7
 """Decimal places of a degree written (1e-7° is about 1 cm)."""
 
@@ -73,7 +74,8 @@ def circuit_lonlat(network: Network, steps: Sequence[Step]) -> list[list[tuple[f
     return out
 
 
-def _pt(parent: ET.Element, tag: str, lon: float, lat: float) -> ET.Element:
+def gpx_point(parent: ET.Element, tag: str, lon: float, lat: float) -> ET.Element:
+    """A ``wptType`` child (``rtept``, ``trkpt``) at ``lon``, ``lat`` (GPX 1.1)."""
     return ET.SubElement(
         parent,
         f"{{{GPX_NS}}}{tag}",
@@ -81,10 +83,32 @@ def _pt(parent: ET.Element, tag: str, lon: float, lat: float) -> ET.Element:
     )
 
 
-def _text(parent: ET.Element, tag: str, text: str) -> ET.Element:
+def gpx_child(parent: ET.Element, tag: str, text: str) -> ET.Element:
+    """A GPX child element holding ``text``."""
     el = ET.SubElement(parent, f"{{{GPX_NS}}}{tag}")
     el.text = text
     return el
+
+
+def gpx_root(title: str, desc: str, time: dt.datetime | None = None) -> ET.Element:
+    """The GPX 1.1 root element with its metadata: name, description and time (UTC; now
+    when ``time`` is None).  O(1)."""
+    ET.register_namespace("", GPX_NS)
+    ET.register_namespace("xsi", _XSI)
+    root = ET.Element(
+        f"{{{GPX_NS}}}gpx",
+        {
+            "version": "1.1",
+            "creator": f"Roundsman {__version__}",
+            f"{{{_XSI}}}schemaLocation": f"{GPX_NS} {GPX_SCHEMA}",
+        },
+    )
+    meta = ET.SubElement(root, f"{{{GPX_NS}}}metadata")
+    gpx_child(meta, "name", title)
+    gpx_child(meta, "desc", desc)
+    stamp = (time or dt.datetime.now(dt.UTC)).astimezone(dt.UTC)
+    gpx_child(meta, "time", stamp.strftime("%Y-%m-%dT%H:%M:%SZ"))
+    return root
 
 
 def gpx_document(
@@ -96,25 +120,12 @@ def gpx_document(
 ) -> ET.Element:
     """The GPX 1.1 document as an element tree (see the module notes). O(v)."""
     crs = _need_crs(network, "GPX")
-    ET.register_namespace("", GPX_NS)
-    ET.register_namespace("xsi", "http://www.w3.org/2001/XMLSchema-instance")
-    root = ET.Element(
-        f"{{{GPX_NS}}}gpx",
-        {
-            "version": "1.1",
-            "creator": f"Roundsman {__version__}",
-            "{http://www.w3.org/2001/XMLSchema-instance}schemaLocation": f"{GPX_NS} {GPX_SCHEMA}",
-        },
-    )
     title = name or network.name or "circuit"
-    meta = ET.SubElement(root, f"{{{GPX_NS}}}metadata")
-    _text(meta, "name", title)
-    _text(meta, "desc", f"{directions.activity.label}: circuit from Roundsman (advisory)")
-    stamp = (time or dt.datetime.now(dt.UTC)).astimezone(dt.UTC)
-    _text(meta, "time", stamp.strftime("%Y-%m-%dT%H:%M:%SZ"))
+    desc = f"{directions.activity.label}: circuit from Roundsman (advisory)"
+    root = gpx_root(title, desc, time)
 
     rte = ET.SubElement(root, f"{{{GPX_NS}}}rte")
-    _text(rte, "name", f"{title}: instructions")
+    gpx_child(rte, "name", f"{title}: instructions")
     rows = [i for i in directions.instructions if i.position is not None]
     if rows:
         to_ll = to_lonlat(crs)
@@ -122,21 +133,21 @@ def gpx_document(
         ys = [i.position[1] for i in rows]  # type: ignore[index]
         lon, lat = to_ll.transform(xs, ys)
         for k, row in enumerate(rows):
-            pt = _pt(rte, "rtept", float(lon[k]), float(lat[k]))
-            _text(pt, "name", str(row.number))
+            pt = gpx_point(rte, "rtept", float(lon[k]), float(lat[k]))
+            gpx_child(pt, "name", str(row.number))
             words = row.text + (f" ({row.service_text})" if row.service_text else "")
-            _text(pt, "desc", words)
+            gpx_child(pt, "desc", words)
 
     trk = ET.SubElement(root, f"{{{GPX_NS}}}trk")
-    _text(trk, "name", title)
-    _text(trk, "type", directions.activity.name)
+    gpx_child(trk, "name", title)
+    gpx_child(trk, "type", directions.activity.name)
     seg = ET.SubElement(trk, f"{{{GPX_NS}}}trkseg")
     last: tuple[float, float] | None = None
     for line in circuit_lonlat(network, directions.steps):
         for p in line:
             if last is not None and p == last:
                 continue
-            _pt(seg, "trkpt", p[0], p[1])
+            gpx_point(seg, "trkpt", p[0], p[1])
             last = p
     return root
 

@@ -111,17 +111,7 @@ def plan_from_dict(doc: dict[str, Any], *, source: str = "plan") -> Plan:
         )
     try:
         trip = doc["routes"][0]["trips"][0]
-        steps = [
-            Step(
-                str(s["link"]),
-                str(s["from"]),
-                str(s["to"]),
-                bool(s["service"]),
-                float(s["length_m"]),
-                not s.get("reverse", False),
-            )
-            for s in trip["steps"]
-        ]
+        steps = [_step_from_dict(s) for s in trip["steps"]]
         totals = doc["totals"]
         return Plan(
             depot=str(trip["start"]),

@@ -8,11 +8,15 @@ from __future__ import annotations
 import argparse
 import sys
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from core.errors import FleetError
 from core.fleet.result import FleetPlan
 from core.fleet.settings import WEEKDAYS, FleetSettings, VehicleType, settings_from_network
 from core.model import Network
+
+if TYPE_CHECKING:
+    from core.fleet.cards import RouteCard
 
 
 def add_fleet_options(
@@ -178,20 +182,10 @@ def _write_fleet_exports(
     paths = [getattr(args, k, None) for k in ("gpx", "instructions_csv", "circuit_geojson")]
     if not any(paths):
         return
-    from core.activity import activity_preset
     from core.files.fleet_exports import write_fleet_exports
-    from core.fleet.cards import fleet_cards, route_exports
+    from core.fleet.cards import route_exports
 
-    cards = fleet_cards(
-        network,
-        plan,
-        activity=activity_preset(args.activity),
-        drive=args.drive,
-        start=args.start,
-        load_unit=settings.vehicles[0].capacity_unit,
-        capacity=settings.vehicles[0].capacity,
-        stop_minutes=getattr(args, "stop_minutes", None),
-    )
+    cards = cards_from_args(network, plan, settings, args)
     done = write_fleet_exports(
         network,
         route_exports(cards),
@@ -202,6 +196,34 @@ def _write_fleet_exports(
     )
     for line in done:
         print(line)
+
+
+def cards_from_args(
+    network: Network,
+    plan: FleetPlan,
+    settings: FleetSettings,
+    args: argparse.Namespace,
+    *,
+    day: str | None = None,
+    vehicle_prefix: str = "",
+) -> list[RouteCard]:
+    """:func:`core.fleet.cards.fleet_cards` from ``--activity/--start/--drive/--stop-minutes``,
+    loads in the first vehicle type's unit and capacity.  O(total route length)."""
+    from core.activity import activity_preset
+    from core.fleet.cards import fleet_cards
+
+    return fleet_cards(
+        network,
+        plan,
+        activity=activity_preset(args.activity),
+        drive=args.drive,
+        start=args.start,
+        day=day,
+        vehicle_prefix=vehicle_prefix,
+        load_unit=settings.vehicles[0].capacity_unit,
+        capacity=settings.vehicles[0].capacity,
+        stop_minutes=getattr(args, "stop_minutes", None),
+    )
 
 
 def add_compare_parser(sub: argparse._SubParsersAction, common: object) -> None:

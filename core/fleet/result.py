@@ -6,11 +6,11 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
-from core.plan import Plan, Step
+from core.plan import Plan, Step, StepTotals
 
 
 @dataclass(slots=True)
-class Trip:
+class Trip(StepTotals):
     """One load: a connected walk from a depot or refill site to a refill site or depot.
 
     ``load`` is in the capacity's unit, ``minutes`` the driving and service time.
@@ -21,18 +21,6 @@ class Trip:
     steps: list[Step]
     load: float = 0.0
     minutes: float = 0.0
-
-    @property
-    def service_m(self) -> float:
-        return math.fsum(s.length for s in self.steps if s.service)
-
-    @property
-    def deadhead_m(self) -> float:
-        return math.fsum(s.length for s in self.steps if not s.service)
-
-    @property
-    def total_m(self) -> float:
-        return math.fsum(s.length for s in self.steps)
 
 
 @dataclass(slots=True)
