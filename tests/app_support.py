@@ -24,13 +24,19 @@ def temp_settings(folder: Path) -> QSettings:
     return QSettings(str(folder / "settings.ini"), QSettings.Format.IniFormat)
 
 
+def _discard_on_close(window: MainWindow) -> None:
+    window.ask_save_changes = lambda: QMessageBox.StandardButton.Discard
+
+
 def make_window(qtbot, folder: Path, network: Network | None = None) -> MainWindow:
     """A shown window on temporary settings; prompts answer "Discard", warnings
     are collected in ``window.warnings`` instead of opening a dialog."""
     window = MainWindow(
         settings=temp_settings(folder), autosave_dir=folder / "autosave", network=network
     )
-    qtbot.addWidget(window)
+    # At teardown answer "Discard", whatever a test set: a window that refused to close
+    # would stay on screen over the next test's window and take its mouse events.
+    qtbot.addWidget(window, before_close_func=_discard_on_close)
     window.warnings = []
     window._warn = lambda title, text: window.warnings.append((title, text))
     window.ask_save_changes = lambda: QMessageBox.StandardButton.Discard
