@@ -287,3 +287,21 @@ def networks(draw: st.DrawFn) -> Network:
 @given(networks())
 def test_random_networks_round_trip(net: Network) -> None:
     assert_same(net, load_project(project_text(net)))
+
+
+def test_saved_files_keep_ordinary_permissions(tmp_path: Path) -> None:
+    # POSIX: a new file gets 0666 less the umask, as open() would give it; a replaced file
+    # keeps its own mode (the temporary file that mkstemp makes is 0600).
+    import os
+    import stat
+
+    from core.files.atomic import atomic_write_text
+
+    new = tmp_path / "new.json"
+    atomic_write_text(new, "{}")
+    mask = os.umask(0)
+    os.umask(mask)
+    assert stat.S_IMODE(new.stat().st_mode) == 0o666 & ~mask
+    new.chmod(0o640)
+    atomic_write_text(new, "{ }")
+    assert stat.S_IMODE(new.stat().st_mode) == 0o640 and new.read_text() == "{ }"

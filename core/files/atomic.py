@@ -25,6 +25,9 @@ def atomic_write_bytes(path: str | os.PathLike[str], data: bytes) -> None:
     folder = target.parent if str(target.parent) else Path(".")
     fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
     try:
+        # mkstemp makes the file private (0600); give it the mode a plain open() would,
+        # or the mode of the file it replaces, so saved files stay shareable.
+        os.chmod(tmp, _mode_for(target))
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
             fh.flush()
@@ -34,3 +37,13 @@ def atomic_write_bytes(path: str | os.PathLike[str], data: bytes) -> None:
         with contextlib.suppress(FileNotFoundError):
             os.unlink(tmp)
         raise
+
+
+def _mode_for(target: Path) -> int:
+    """The permission bits a new file at ``target`` should have."""
+    try:
+        return target.stat().st_mode & 0o777
+    except OSError:
+        mask = os.umask(0)  # read the umask (there is no getter) and put it back at once
+        os.umask(mask)
+        return 0o666 & ~mask
