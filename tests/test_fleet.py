@@ -246,6 +246,20 @@ def test_same_seed_same_plan() -> None:
     assert a.feasible
 
 
+def test_cli_iterations_repeat_a_run(tmp_path: Path, capsys) -> None:
+    from core.files.project import save_project
+
+    src = tmp_path / "grid.json"
+    save_project(_grid(), src)
+    outs = [tmp_path / "a.json", tmp_path / "b.json"]
+    for out in outs:
+        args = ["plan", str(src), "--capacity", "6", "--seed", "3", "--iterations", "200"]
+        assert main([*args, "--search-time", "30", "--out", str(out)]) == 0
+    capsys.readouterr()
+    a, b = (json.loads(p.read_text()) for p in outs)
+    assert a["fleet"] and a["routes"] == b["routes"]
+
+
 def test_priorities_first_and_reported() -> None:
     net = _grid()
     settings = FleetSettings(vehicles=(VehicleType(capacity=8.0),), time_limit=1.0)

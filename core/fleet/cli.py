@@ -57,6 +57,13 @@ def add_fleet_options(
         metavar="S",
         help="seconds the fleet route search may use per plan (default 10)",
     )
+    p.add_argument(
+        "--iterations",
+        type=int,
+        metavar="N",
+        help="stop the route search after N iterations instead of on time, so that a run "
+        "repeats exactly for its seed on any machine (the search time still caps it)",
+    )
 
 
 def _counts(value: str | None) -> list[int | None]:
@@ -112,6 +119,7 @@ def settings_from_args(
         seed=getattr(args, "seed", 0),
         day=getattr(args, "day", None),
         time_limit=getattr(args, "search_time", 10.0),
+        iterations=getattr(args, "iterations", None),
     )
 
 
