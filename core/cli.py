@@ -370,8 +370,8 @@ def build_parser() -> argparse.ArgumentParser:
             "--on-error",
             choices=("reject", "skip"),
             default="reject",
-            help="GeoPackage/OpenStreetMap: refuse the file at a broken feature (default) "
-            "or skip such features and list them",
+            help="GeoJSON, GeoPackage, OpenStreetMap: refuse the file at a broken feature "
+            "(default) or skip such features and list them",
         )
         p.add_argument(
             "--boundary",

@@ -616,3 +616,29 @@ def test_random_line_sets_round_trip(
             assert net.segments[sid].length == pytest.approx(seg.length, abs=bound)
             assert net.segments[sid].oneway is seg.oneway
             assert net.segments[sid].name == seg.name
+
+
+def test_broken_features_can_be_skipped_and_are_listed() -> None:
+    # RFC 7946 section 3.1.4: a LineString needs two or more positions.
+    doc = {
+        "type": "FeatureCollection",
+        "features": [
+            {"type": "Feature", "id": "a", "properties": {"name": "Ok Street"},
+             "geometry": {"type": "LineString", "coordinates": [[-32.0, 47.0], [-32.001, 47.0]]}},
+            {"type": "Feature", "id": "b", "properties": {"oneway": "sideways"},
+             "geometry": {"type": "LineString", "coordinates": [[-32.001, 47.0], [-32.002, 47.0]]}},
+            {"type": "Feature", "id": 7, "properties": {},
+             "geometry": {"type": "LineString", "coordinates": [[-32.001, 47.0]]}},
+            {"type": "Feature", "id": "a", "properties": {},
+             "geometry": {"type": "LineString", "coordinates": [[-32.0, 47.0], [-32.0, 47.001]]}},
+        ],
+    }  # fmt: skip
+    with pytest.raises(InputError, match="feature 1"):
+        parse_geojson(doc)
+    net = parse_geojson(doc, on_error="skip")
+    assert [s.name for s in net] == ["Ok Street"]
+    skipped = net.meta["skipped_features"]
+    assert [(s["feature"], s["id"]) for s in skipped] == [(1, "b"), (2, "7"), (3, "a")]
+    assert "RFC 7946" in skipped[1]["reason"] and "unique" in skipped[2]["reason"]
+    with pytest.raises(InputError, match="'reject', 'skip'"):
+        parse_geojson(doc, on_error="ignore")

@@ -125,6 +125,7 @@ def parse_network(
     source: str | None = None,
     name: str = "",
     snap_tolerance: float = DEFAULT_SNAP_TOLERANCE,
+    on_error: str = "reject",
 ) -> Network:
     """Build a network from file content.
 
@@ -140,6 +141,9 @@ def parse_network(
         The network name when the content does not give one.
     snap_tolerance
         Metres within which GeoJSON vertices are one junction.
+    on_error
+        GeoJSON: ``"reject"`` stops at a broken feature, ``"skip"`` lists and
+        leaves it out.
     """
     if fmt is not None and fmt not in FORMATS:
         raise InputError(
@@ -161,7 +165,9 @@ def parse_network(
     if doc is None:
         doc = load_json(text, source=source)
     if fmt == "geojson":
-        return parse_geojson(doc, source=source, snap_tolerance=snap_tolerance, name=name)
+        return parse_geojson(
+            doc, source=source, snap_tolerance=snap_tolerance, name=name, on_error=on_error
+        )
     if fmt == "project":
         return project_from_dict(doc, source=source, name=name)
     return parse_saltspread(doc, source=source, name=name)
@@ -183,8 +189,8 @@ def read_network(
     block or an ``<osm>`` XML element); other files are read as UTF-8 and
     their format recognised from the content, unless ``fmt`` names it.
     ``layer`` picks the GeoPackage layer, ``highways`` the OpenStreetMap
-    highway classes, and ``on_error`` (``"reject"`` or ``"skip"``) what both
-    do with broken features; the text formats ignore them.
+    highway classes, and ``on_error`` (``"reject"`` or ``"skip"``) what they
+    and GeoJSON do with broken features; the other text formats ignore it.
 
     Raises
     ------
@@ -217,6 +223,7 @@ def read_network(
         source=source_label(path),
         name=Path(path).stem,
         snap_tolerance=snap_tolerance,
+        on_error=on_error,
     )
 
 

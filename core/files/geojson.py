@@ -74,6 +74,7 @@ from core.model import (
     parse_service,
     polyline_length,
 )
+from core.report import SKIPPED_KEY, check_on_error
 
 DEFAULT_SNAP_TOLERANCE = 0.5
 """Metres within which vertices of different lines are taken to be one junction."""
@@ -123,7 +124,10 @@ class _Marker:
 
 
 def read_geojson(
-    path: str | os.PathLike[str], *, snap_tolerance: float = DEFAULT_SNAP_TOLERANCE
+    path: str | os.PathLike[str],
+    *,
+    snap_tolerance: float = DEFAULT_SNAP_TOLERANCE,
+    on_error: str = "reject",
 ) -> Network:
     """Read a GeoJSON file (RFC 7946) as a street network.
 
@@ -133,6 +137,9 @@ def read_geojson(
         The file; UTF-8 JSON.
     snap_tolerance
         Metres within which vertices are taken to be the same junction.
+    on_error
+        ``"reject"``: a broken feature stops the reading; ``"skip"``: it is left
+        out and listed in ``network.meta["skipped_features"]``.
 
     Raises
     ------
@@ -144,6 +151,7 @@ def read_geojson(
         source=source_label(path),
         snap_tolerance=snap_tolerance,
         name=Path(path).stem,
+        on_error=on_error,
     )
 
 
@@ -153,13 +161,19 @@ def parse_geojson(
     source: str | None = None,
     snap_tolerance: float = DEFAULT_SNAP_TOLERANCE,
     name: str | None = None,
+    on_error: str = "reject",
 ) -> Network:
     """Build a network from GeoJSON text or an already parsed document.
 
     ``source`` labels error messages (a file name); ``name`` is the network
-    name when the document has no ``"name"`` member.  The document is not
-    modified.  See the module description for the rules.
+    name when the document has no ``"name"`` member.  ``on_error="skip"``
+    leaves out features that are broken in themselves (bad geometry or
+    properties, a repeated id) and lists them in
+    ``network.meta["skipped_features"]``; ``"reject"`` (the default) stops at
+    the first.  The document is not modified.  See the module description for
+    the rules.
     """
+    check_on_error(on_error, source)
     if not (is_number(snap_tolerance) and math.isfinite(snap_tolerance) and snap_tolerance >= 0):
         raise InputError(
             f"the snapping tolerance must be a number of metres of at least 0, "
@@ -173,18 +187,25 @@ def parse_geojson(
     streets: list[_Street] = []
     markers: list[_Marker] = []
     seen_ids: dict[str, int] = {}
+    skipped: list[dict[str, Any]] = []
     for index, feature in enumerate(features):
-        item = _read_feature(feature, index, source)
+        try:
+            item = _read_feature(feature, index, source)
+            if isinstance(item, _Street) and item.base_id in seen_ids:
+                raise InputError(
+                    f"{_street_words(item)}the id {item.base_id!r} is also used by feature "
+                    f"{seen_ids[item.base_id]}; street ids must be unique",
+                    source=source,
+                    feature=index,
+                )
+        except InputError as exc:
+            if on_error == "reject":
+                raise
+            skipped.append({"feature": index, "id": _feature_id(feature), "reason": exc.message})
+            continue
         if isinstance(item, _Marker):
             markers.append(item)
             continue
-        if item.base_id in seen_ids:
-            raise InputError(
-                f"{_street_words(item)}the id {item.base_id!r} is also used by feature "
-                f"{seen_ids[item.base_id]}; street ids must be unique",
-                source=source,
-                feature=index,
-            )
         seen_ids[item.base_id] = index
         streets.append(item)
     if not streets:
@@ -199,7 +220,15 @@ def parse_geojson(
     network = Network(doc_name if isinstance(doc_name, str) and doc_name else (name or ""), crs)
     _build(network, streets, xy, snap_tolerance, source)
     _place_markers(network, markers, marker_xy, source)
+    if skipped:
+        network.meta[SKIPPED_KEY] = skipped
     return network
+
+
+def _feature_id(feature: Any) -> str:
+    """The feature's own ``id`` for the list of skipped features, or ``""``."""
+    fid = feature.get("id") if isinstance(feature, Mapping) else None
+    return str(fid) if isinstance(fid, str | int) and not isinstance(fid, bool) else ""
 
 
 def _features(doc: Any, source: str | None) -> Sequence[Any]:
