@@ -450,3 +450,32 @@ def test_replace_network_edit_is_exact_both_ways() -> None:
     edit.revert(net)
     assert project_to_dict(net) == project_to_dict(original)
     assert list(net.segments) == list(original.segments)
+
+
+def test_geojson_import_can_skip_broken_features(qtbot, tmp_path, monkeypatch) -> None:
+    # RFC 7946 section 3.1.4: a LineString needs two or more positions; the second feature
+    # has one, so "skip" leaves it out and the report lists it (invented streets).
+    path = tmp_path / "lanes.geojson"
+    line = [[-32.0, 47.0], [-32.001, 47.0]]
+    features = [
+        {"type": "Feature", "properties": {"name": "Rush Lane"},
+         "geometry": {"type": "LineString", "coordinates": line}},
+        {"type": "Feature", "properties": {"name": "Broken Lane"},
+         "geometry": {"type": "LineString", "coordinates": line[:1]}},
+    ]  # fmt: skip
+    path.write_text(json.dumps({"type": "FeatureCollection", "features": features}))
+    window = make_window(qtbot, tmp_path)
+    ctl = window.importing
+    seen = {}
+
+    def choose(dialog) -> None:
+        seen["kind"] = dialog.kind
+        seen["layers"], seen["classes"] = dialog.layer_choice, dialog.highways
+        dialog.on_error_buttons["skip"].setChecked(True)
+
+    monkeypatch.setattr(options_module.ImportOptionsDialog, "exec", fake_exec(choose))
+    assert ctl.import_path(path)
+    assert seen == {"kind": "geojson", "layers": None, "classes": None}
+    assert [s.name for s in window.document.network] == ["Rush Lane"]
+    assert [item["feature"] for item in ctl.report.skipped] == [1]
+    assert snapshot(window.document.network) == snapshot(read_network(path, on_error="skip"))

@@ -33,7 +33,7 @@ from shapely.geometry import MultiPolygon, Polygon
 from app.canvas.coords import to_scene
 from app.files import import_filters
 from app.importing.boundary_tool import BoundaryTool
-from app.importing.options import ImportOptionsDialog, file_kind
+from app.importing.options import ImportOptionsDialog, file_kind, import_kind
 from app.importing.report import ImportReportDialog
 from app.importing.style import BOUNDARY_COLOUR, BOUNDARY_FILL_ALPHA, Z_BOUNDARY
 from core import edit as ed
@@ -142,7 +142,7 @@ class ImportingController(QObject):
         """Import ``path`` (asking for options when it is a GeoPackage or OSM file and
         none are given) and show the report.  Unsaved work is not asked about here:
         :meth:`import_dialog` asks first."""
-        kind = file_kind(path)
+        kind = import_kind(path)
         if kind is not None and options is None:
             options = self.ask_options(path, kind)
             if options is None:

@@ -5,8 +5,9 @@
 - OpenStreetMap: which ``highway`` classes to keep (every class of
   :data:`core.files.osm.HIGHWAY_CLASSES`, those of
   :data:`core.files.osm.DEFAULT_HIGHWAYS` ticked to start with);
-- both: what to do with a broken feature (:data:`core.report.ON_ERROR_CHOICES`):
-  stop and name it, or leave it out and list it in the report.
+- both, and GeoJSON: what to do with a broken feature
+  (:data:`core.report.ON_ERROR_CHOICES`): stop and name it, or leave it out and
+  list it in the report.
 
 :func:`file_kind` recognises the two from their first bytes, as
 :func:`core.files.read_network` does.
@@ -15,6 +16,7 @@
 from __future__ import annotations
 
 import os
+from pathlib import Path
 from typing import Any
 
 from PySide6.QtCore import Qt
@@ -35,14 +37,24 @@ from PySide6.QtWidgets import (
 )
 
 from core.errors import RoundsmanError
+from core.files import detect_format
 from core.files.gpkg import line_layers, sniff_gpkg
 from core.files.osm import DEFAULT_HIGHWAYS, HIGHWAY_CLASSES, sniff_osm_file
 from core.report import ON_ERROR_CHOICES
 
-__all__ = ["GEOPACKAGE", "OSM", "ImportOptionsDialog", "file_kind", "gpkg_line_layers"]
+__all__ = [
+    "GEOJSON",
+    "GEOPACKAGE",
+    "OSM",
+    "ImportOptionsDialog",
+    "file_kind",
+    "gpkg_line_layers",
+    "import_kind",
+]
 
 GEOPACKAGE = "geopackage"
 OSM = "osm"
+GEOJSON = "geojson"
 
 ON_ERROR_TEXT = {
     "reject": "Stop at the first broken feature and name it",
@@ -62,6 +74,19 @@ def file_kind(path: str | os.PathLike[str]) -> str | None:
     except OSError:
         return None  # the reader names the problem
     return None
+
+
+def import_kind(path: str | os.PathLike[str]) -> str | None:
+    """Like :func:`file_kind`, and ``"geojson"`` for GeoJSON text, whose broken features
+    may also be skipped (File ▸ Import asks; opening or dropping a GeoJSON file does not)."""
+    kind = file_kind(path)
+    if kind is not None:
+        return kind
+    try:
+        text = Path(path).read_text(encoding="utf-8")
+        return GEOJSON if detect_format(text) == "geojson" else None
+    except (OSError, UnicodeDecodeError, RoundsmanError):
+        return None  # the reader names the problem
 
 
 def gpkg_line_layers(path: str | os.PathLike[str]) -> list[tuple[str, str]]:
