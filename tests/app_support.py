@@ -7,7 +7,7 @@ import json
 from pathlib import Path
 
 from PySide6.QtCore import QPoint, QPointF, QSettings
-from PySide6.QtWidgets import QApplication, QMessageBox
+from PySide6.QtWidgets import QApplication, QMessageBox, QWidget
 
 from app.canvas.coords import to_scene
 from app.main import MainWindow
@@ -26,6 +26,19 @@ def temp_settings(folder: Path) -> QSettings:
 
 def _discard_on_close(window: MainWindow) -> None:
     window.ask_save_changes = lambda: QMessageBox.StandardButton.Discard
+    # Non-modal dialogs the test left open (an import report, say) close with it too.
+    for widget in QApplication.topLevelWidgets():
+        if widget is not window and widget.isVisible() and _owned_by(widget, window):
+            widget.close()
+
+
+def _owned_by(widget: QWidget, window: MainWindow) -> bool:
+    parent = widget.parentWidget()
+    while parent is not None:
+        if parent is window:
+            return True
+        parent = parent.parentWidget()
+    return False
 
 
 def make_window(qtbot, folder: Path, network: Network | None = None) -> MainWindow:
@@ -69,3 +82,4 @@ def two_streets() -> Network:
     net.add_segment(Segment("s1", "a", "b", geometry=((0.0, 0.0), (100.0, 0.0))))
     net.add_segment(Segment("s2", "b", "c", geometry=((100.0, 0.0), (100.0, 100.0))))
     return net
+
