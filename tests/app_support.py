@@ -12,7 +12,7 @@ from PySide6.QtWidgets import QApplication, QMessageBox, QWidget
 from app.canvas.coords import to_scene
 from app.main import MainWindow
 from core.files.project import project_to_dict
-from core.model import Network, Node, Segment
+from core.model import Network, Node, OneWay, Segment, Service
 
 
 def snapshot(net: Network) -> str:
@@ -83,3 +83,42 @@ def two_streets() -> Network:
     net.add_segment(Segment("s2", "b", "c", geometry=((100.0, 0.0), (100.0, 100.0))))
     return net
 
+
+GRID_X0, GRID_Y0 = 500_000.0, 5_000_000.0
+"""Grid origin in UTM zone 26N (EPSG:32626): open Atlantic, our invented town's water."""
+
+
+def street_grid(
+    n: int,
+    *,
+    depot: str,
+    demand: float = 0.0,
+    one_way: tuple[int, ...] = (),
+    both_kerbs: tuple[int, ...] = (),
+) -> Network:
+    """An n x n grid of 100 m streets ``g1``, ``g2``, ... with coordinates; the streets
+    numbered in ``one_way`` run one way as drawn, those in ``both_kerbs`` need both kerbs."""
+    net = Network("Thistlewick grid", "EPSG:32626")
+    for i in range(n):
+        for j in range(n):
+            net.add_node(Node(f"n{i}_{j}", GRID_X0 + 100.0 * i, GRID_Y0 + 100.0 * j))
+    k = 0
+    for i in range(n):
+        for j in range(n):
+            for di, dj in ((1, 0), (0, 1)):
+                if i + di < n and j + dj < n:
+                    k += 1
+                    a, b = net.nodes[f"n{i}_{j}"], net.nodes[f"n{i + di}_{j + dj}"]
+                    net.add_segment(
+                        Segment(
+                            f"g{k}",
+                            a.id,
+                            b.id,
+                            geometry=((a.x, a.y), (b.x, b.y)),
+                            oneway=OneWay.FORWARD if k in one_way else OneWay.NO,
+                            service=Service.BOTH if k in both_kerbs else Service.EITHER,
+                            demand=demand,
+                        )
+                    )
+    net.depot = depot
+    return net

@@ -20,31 +20,23 @@ from app.compare.chart import BAR_LOOKS
 from app.compare.controller import CANCELLED_TEXT
 from app.compare.panel import parse_counts
 from core.fleet.compare import compare_depots, row_values, rows_csv
-from core.model import Network, Node, Segment
-from tests.app_support import at, make_window, place_view, snapshot
+from core.model import Network
+from tests.app_support import (
+    GRID_X0,
+    GRID_Y0,
+    at,
+    make_window,
+    place_view,
+    snapshot,
+    street_grid,
+)
 
-X0, Y0 = 500_000.0, 5_000_000.0
-"""Grid origin in UTM zone 26N (EPSG:32626): open Atlantic, our invented town's water."""
+X0, Y0 = GRID_X0, GRID_Y0
 
 
 def grid(n: int = 3) -> Network:
     """An n x n grid of 100 m streets, each needing one pass with demand 1."""
-    net = Network("Thistlewick grid", "EPSG:32626")
-    for i in range(n):
-        for j in range(n):
-            net.add_node(Node(f"n{i}_{j}", X0 + 100.0 * i, Y0 + 100.0 * j))
-    k = 0
-    for i in range(n):
-        for j in range(n):
-            for di, dj in ((1, 0), (0, 1)):
-                if i + di < n and j + dj < n:
-                    k += 1
-                    a, b = net.nodes[f"n{i}_{j}"], net.nodes[f"n{i + di}_{j + dj}"]
-                    net.add_segment(
-                        Segment(f"g{k}", a.id, b.id, geometry=((a.x, a.y), (b.x, b.y)), demand=1.0)
-                    )
-    net.depot = "n0_0"
-    return net
+    return street_grid(n, depot="n0_0", demand=1.0)
 
 
 def test_parse_counts() -> None:

@@ -25,9 +25,17 @@ import app.importing.options as options_module
 from core.boundary import clip_to_boundary, read_boundary
 from core.files import read_network
 from core.files.osm import DEFAULT_HIGHWAYS, HIGHWAY_CLASSES
-from core.model import Network, Node, OneWay, Segment, Service
+from core.model import Network, Service
 from core.report import import_report, keep_largest_piece
-from tests.app_support import at, make_window, place_view, snapshot
+from tests.app_support import (
+    GRID_X0,
+    GRID_Y0,
+    at,
+    make_window,
+    place_view,
+    snapshot,
+    street_grid,
+)
 
 # -- a tiny OpenStreetMap file (invented streets in the open Atlantic) -------------------------
 
@@ -312,33 +320,12 @@ def test_helsinki_extract_through_the_window(qtbot, tmp_path, monkeypatch) -> No
 
 # -- the district boundary -------------------------------------------------------------------
 
-X0, Y0 = 500_000.0, 5_000_000.0  # UTM zone 26N (EPSG:32626): open Atlantic
+X0, Y0 = GRID_X0, GRID_Y0
 
 
 def grid(n: int = 5) -> Network:
     """An n x n grid of 100 m streets with coordinates, two of them one-way."""
-    net = Network("Thistlewick grid", "EPSG:32626")
-    for i in range(n):
-        for j in range(n):
-            net.add_node(Node(f"n{i}_{j}", X0 + 100.0 * i, Y0 + 100.0 * j))
-    k = 0
-    for i in range(n):
-        for j in range(n):
-            for di, dj in ((1, 0), (0, 1)):
-                if i + di < n and j + dj < n:
-                    k += 1
-                    a, b = net.nodes[f"n{i}_{j}"], net.nodes[f"n{i + di}_{j + dj}"]
-                    net.add_segment(
-                        Segment(
-                            f"g{k}",
-                            a.id,
-                            b.id,
-                            geometry=((a.x, a.y), (b.x, b.y)),
-                            oneway=OneWay.FORWARD if k in (3, 8) else OneWay.NO,
-                            service=Service.BOTH if k == 5 else Service.EITHER,
-                        )
-                    )
-    net.depot = "n2_2"
+    net = street_grid(n, depot="n2_2", one_way=(3, 8), both_kerbs=(5,))
     net.meta["source"] = "test grid"
     return net
 
