@@ -34,9 +34,11 @@ the search runs for its time budget.
 
 from __future__ import annotations
 
+import copy
 import math
 import time
 from collections.abc import Callable, Sequence
+from dataclasses import dataclass, replace
 
 import numpy as np
 import pyvrp
@@ -69,7 +71,9 @@ def _params() -> SolveParams:
 
 
 class _Stop(StoppingCriterion):
-    """Stop at the time budget or when the caller's stop flag is raised."""
+    """Stop at the time budget (or after ``iterations``) or when the caller's stop flag
+    is raised; with ``early = (share, wanted)``, also once that share of the budget is
+    spent if ``wanted()`` says so (``ended_early`` then records it)."""
 
     def __init__(
         self,
@@ -77,22 +81,56 @@ class _Stop(StoppingCriterion):
         stopped: Callable[[], bool],
         iterations: int | None = None,
         tick: Callable[[], None] | None = None,
+        early: tuple[float, Callable[[], bool]] | None = None,
     ) -> None:
-        self.deadline = time.perf_counter() + seconds
+        self.start = time.perf_counter()
+        self.seconds = seconds
         self.stopped = stopped
-        self.left = iterations
+        self.iterations = iterations
+        self.done = 0
         self.tick = tick
         self.next_tick = 0.0
+        self.early = early
+        self.ended_early = False
+
+    def _spent(self) -> float:
+        if self.iterations is not None:
+            return self.done / max(1, self.iterations)
+        return (time.perf_counter() - self.start) / max(self.seconds, 1e-9)
 
     def __call__(self, best_cost: float) -> bool:
         if self.tick is not None and time.perf_counter() >= self.next_tick:
             self.next_tick = time.perf_counter() + 0.5
             self.tick()
-        if self.left is not None:
-            self.left -= 1
-            if self.left < 0:
-                return True
-        return time.perf_counter() >= self.deadline or self.stopped()
+        self.done += 1
+        if self.iterations is not None and self.done > self.iterations:
+            return True
+        if self.iterations is None and time.perf_counter() - self.start >= self.seconds:
+            return True
+        if self.early is not None and self._spent() >= self.early[0] and self.early[1]():
+            self.ended_early = True
+            return True
+        return self.stopped()
+
+
+class _Watch(pyvrp.IteratedLocalSearchCallbacks):
+    """Keeps the search's best solution as it improves (PyVRP's callback hook)."""
+
+    def __init__(self, start: pyvrp.Solution | None) -> None:
+        self.best = start
+
+    def on_best(self, best: pyvrp.Solution) -> None:
+        self.best = best
+
+
+@dataclass
+class SearchRun:
+    """One PyVRP search: its best solution, whether it handed over early (see
+    :meth:`NodeModel.solve`) and the iterations it used."""
+
+    best: pyvrp.Solution
+    ended_early: bool
+    iterations: int
 
 
 class NodeModel:
@@ -319,6 +357,14 @@ class NodeModel:
         except (KeyError, ValueError, RuntimeError, IndexError):
             return None
 
+    def with_fleet(self, count: int) -> NodeModel:
+        """This model with at most ``count`` vehicles of its single vehicle type (a copy;
+        the matrices are shared)."""
+        other = copy.copy(self)
+        vt = self.data.vehicle_type(0).replace(num_available=count)
+        other.data = self.data.replace(vehicle_types=[vt])
+        return other
+
     def solve(
         self,
         seconds: float,
@@ -327,17 +373,31 @@ class NodeModel:
         initial: pyvrp.Solution | None,
         iterations: int | None = None,
         tick: Callable[[], None] | None = None,
-    ) -> pyvrp.Solution:
+        hand_over: tuple[float, Callable[[pyvrp.Solution], bool]] | None = None,
+    ) -> SearchRun:
+        """PyVRP's search for ``seconds`` (or ``iterations``), from ``initial`` or its own
+        random start.  With ``hand_over = (share, wanted)`` it ends once that share of
+        the budget is spent if ``wanted(best so far)`` is true, so that the caller can
+        use the rest for another search."""
+        stop = _Stop(seconds, stopped, iterations, tick)
+        params = _params()
+        if hand_over is not None:
+            share, wanted = hand_over
+            watch = _Watch(initial)
+            params = SolveParams(
+                ils=replace(params.ils, callbacks=watch), neighbourhood=params.neighbourhood
+            )
+            stop.early = (share, lambda: watch.best is not None and wanted(watch.best))
         res = pyvrp.solve(
             self.data,
-            _Stop(seconds, stopped, iterations, tick),
+            stop,
             seed=seed,
             collect_stats=False,
             display=False,
-            params=_params(),
+            params=params,
             initial_solution=initial,
         )
-        return res.best
+        return SearchRun(res.best, stop.ended_early, stop.done)
 
     def decode(self, sol: pyvrp.Solution) -> tuple[list[RouteSpec], int]:
         """Routes of visits from a PyVRP solution, and the number of split pairs (a pass
