@@ -77,6 +77,30 @@ def test_published_carp_feasible_and_close(name: str) -> None:
 
 
 @needs_bench
+def test_fleet_bound_is_the_route_inspection_optimum(gdb1_plan) -> None:
+    # With one depot the fleet's bound is the shortest single circuit's; on gdb1 (every
+    # street two-way and needing service) that is the route inspection optimum, computed
+    # here independently with networkx (edge costs plus a minimum-weight perfect matching
+    # of the odd-degree junctions over shortest paths, Edmonds & Johnson 1973), and it
+    # cannot exceed the published optimum 316 (BOUNDS).
+    import networkx as nx
+
+    net, _, plan = gdb1_plan
+    g = nx.MultiGraph()
+    for seg in net.segments.values():
+        g.add_edge(seg.start, seg.end, weight=seg.length)
+    odd = [n for n, d in g.degree() if d % 2]
+    dist = dict(nx.all_pairs_dijkstra_path_length(g, weight="weight"))
+    k = nx.Graph()
+    k.add_weighted_edges_from((a, b, dist[a][b]) for a, b in itertools.combinations(odd, 2))
+    matching = nx.min_weight_matching(k)
+    cpp = sum(seg.length for seg in net.segments.values()) + sum(dist[a][b] for a, b in matching)
+    assert plan.lower_bound_m == pytest.approx(cpp)
+    assert plan.lower_bound_m <= BOUNDS["gdb1"][0] <= plan.total_m + 1e-9
+    assert plan.gap == pytest.approx((plan.total_m - cpp) / cpp)
+
+
+@needs_bench
 def test_tight_loads_reach_the_optimum_with_fewer_routes() -> None:
     # gdb23 (Golden, DeArmon & Baker 1983) packs a demand of 266 into vehicles of 27, so
     # at least 10 routes; its proven optimum 233 (BOUNDS) uses 10, and the search settles

@@ -156,6 +156,11 @@ def fleet_summary(network: Network, plan: FleetPlan, units: dict[str, str] | Non
         f"Total       {plan.total_m / unit:12.2f} {name}",
         f"Hours       {plan.hours:12.2f}",
     ]
+    if plan.gap is not None:
+        lines.append(
+            f"Bound       {plan.lower_bound_m / unit:12.2f} {name}  (one circuit without "
+            f"limits; total {100 * plan.gap:.1f} % above)"
+        )
     if len(plan.class_done_min) > 1:
         for p, m in plan.class_done_min.items():
             lines.append(f"Class {p} complete after {m:.0f} min")

@@ -80,6 +80,9 @@ class _Context:
         if any(v.end_at == "refill" for v in settings.vehicles) and not settings.refill_sites:
             raise DepotError("vehicles that end at a refill site need at least one refill site")
         self.homes = homes
+        self.circuit_bound_m = 0.0
+        """The engine's proven bound on one circuit over the day's passes, once
+        :func:`_circuit_tour` has planned it (see :func:`fleet_lower_bound`)."""
         self.graph = StateGraph(network, settings.vehicles[0], settings.uturns_forbidden(network))
         self.tasks = build_tasks(network, self.graph, settings)
         g = self.graph
@@ -208,6 +211,7 @@ def plan_fleet(
         if best is None or _better(plan, best):
             best = plan
     assert best is not None
+    best.lower_bound_m = fleet_lower_bound(ctx)
     best.notes.extend(notes)
     best.timings = {**timings, "total_s": time.perf_counter() - t0}
     say("done", 1.0)
@@ -378,7 +382,25 @@ def _circuit_tour(ctx: _Context) -> list[Visit] | None:
                 break
     if len(used) != len(ctx.tasks):
         return None
+    ctx.circuit_bound_m = circuit.lower_bound_m
     return tour
+
+
+def fleet_lower_bound(ctx: _Context) -> float:
+    """A proven lower bound on a fleet plan's total length, or 0 when none is known.
+
+    When every vehicle leaves from and returns to one depot, the routes joined there
+    form one closed walk over every pass of the day, so no fleet plan is shorter than
+    the shortest single circuit; the engine's bound on that circuit (route inspection
+    bounds, see :mod:`core.solve.circuit`) is therefore a bound on the fleet.
+    Capacity, time, priorities and turn rules only lengthen the plan, so the bound
+    relaxes them and can be far below the best fleet plan.  With several homes, or
+    routes that end at refill sites, the routes do not join into one circuit and no
+    bound is given.  O(1) once the circuit is planned.
+    """
+    if len(set(ctx.homes)) != 1 or any(v.end_at != "home" for v in ctx.settings.vehicles):
+        return 0.0
+    return ctx.circuit_bound_m
 
 
 def nearest_neighbour(graph: StateGraph, tasks: Sequence[Task], start: int) -> list[Visit]:

@@ -112,6 +112,13 @@ class FleetPlan:
         return math.fsum(r.deadhead_m for r in self.routes)
 
     @property
+    def gap(self) -> float | None:
+        """Relative gap ``(total - bound) / bound``, or None when no bound is known."""
+        if self.lower_bound_m <= 0:
+            return None
+        return max(0.0, (self.total_m - self.lower_bound_m) / self.lower_bound_m)
+
+    @property
     def hours(self) -> float:
         """Vehicle hours: the sum of the route times."""
         return math.fsum(r.minutes for r in self.routes) / 60.0
