@@ -70,10 +70,23 @@ def _params() -> SolveParams:
     )
 
 
+@dataclass(frozen=True)
+class HandOver:
+    """When a search should end early to leave the rest of its budget to another.
+
+    It ends once its best has not improved for ``stall`` of the budget, while at least
+    ``keep`` of the budget is left, if ``wanted(best)`` says so.  Shares count
+    iterations when the search is held to an iteration count, else seconds."""
+
+    stall: float
+    keep: float
+    wanted: Callable[[pyvrp.Solution], bool]
+
+
 class _Stop(StoppingCriterion):
     """Stop at the time budget (or after ``iterations``) or when the caller's stop flag
-    is raised; with ``early = (share, wanted)``, also once that share of the budget is
-    spent if ``wanted()`` says so (``ended_early`` then records it)."""
+    is raised; with a :class:`HandOver`, also when that says so (``ended_early`` then
+    records it)."""
 
     def __init__(
         self,
@@ -81,7 +94,6 @@ class _Stop(StoppingCriterion):
         stopped: Callable[[], bool],
         iterations: int | None = None,
         tick: Callable[[], None] | None = None,
-        early: tuple[float, Callable[[], bool]] | None = None,
     ) -> None:
         self.start = time.perf_counter()
         self.seconds = seconds
@@ -90,10 +102,13 @@ class _Stop(StoppingCriterion):
         self.done = 0
         self.tick = tick
         self.next_tick = 0.0
-        self.early = early
+        self.hand_over: HandOver | None = None
+        self.best: pyvrp.Solution | None = None
+        self.best_at = 0.0
         self.ended_early = False
 
-    def _spent(self) -> float:
+    def spent(self) -> float:
+        """The share of the budget spent so far."""
         if self.iterations is not None:
             return self.done / max(1, self.iterations)
         return (time.perf_counter() - self.start) / max(self.seconds, 1e-9)
@@ -107,20 +122,24 @@ class _Stop(StoppingCriterion):
             return True
         if self.iterations is None and time.perf_counter() - self.start >= self.seconds:
             return True
-        if self.early is not None and self._spent() >= self.early[0] and self.early[1]():
-            self.ended_early = True
-            return True
+        h = self.hand_over
+        if h is not None and self.best is not None:
+            spent = self.spent()
+            if spent - self.best_at >= h.stall and spent <= 1 - h.keep and h.wanted(self.best):
+                self.ended_early = True
+                return True
         return self.stopped()
 
 
 class _Watch(pyvrp.IteratedLocalSearchCallbacks):
-    """Keeps the search's best solution as it improves (PyVRP's callback hook)."""
+    """Tells the stopping rule of each new best solution (PyVRP's callback hook)."""
 
-    def __init__(self, start: pyvrp.Solution | None) -> None:
-        self.best = start
+    def __init__(self, stop: _Stop) -> None:
+        self.stop = stop
 
     def on_best(self, best: pyvrp.Solution) -> None:
-        self.best = best
+        self.stop.best = best
+        self.stop.best_at = self.stop.spent()
 
 
 @dataclass
@@ -373,21 +392,19 @@ class NodeModel:
         initial: pyvrp.Solution | None,
         iterations: int | None = None,
         tick: Callable[[], None] | None = None,
-        hand_over: tuple[float, Callable[[pyvrp.Solution], bool]] | None = None,
+        hand_over: HandOver | None = None,
     ) -> SearchRun:
         """PyVRP's search for ``seconds`` (or ``iterations``), from ``initial`` or its own
-        random start.  With ``hand_over = (share, wanted)`` it ends once that share of
-        the budget is spent if ``wanted(best so far)`` is true, so that the caller can
-        use the rest for another search."""
+        random start; with ``hand_over``, ending early when that says so
+        (:class:`HandOver`), so that the caller can use the rest for another search."""
         stop = _Stop(seconds, stopped, iterations, tick)
         params = _params()
         if hand_over is not None:
-            share, wanted = hand_over
-            watch = _Watch(initial)
+            stop.hand_over = hand_over
+            stop.best = initial
             params = SolveParams(
-                ils=replace(params.ils, callbacks=watch), neighbourhood=params.neighbourhood
+                ils=replace(params.ils, callbacks=_Watch(stop)), neighbourhood=params.neighbourhood
             )
-            stop.early = (share, lambda: watch.best is not None and wanted(watch.best))
         res = pyvrp.solve(
             self.data,
             stop,
