@@ -155,8 +155,9 @@ def add_route_options(p: argparse.ArgumentParser) -> None:
         "--stop-minutes",
         type=float,
         metavar="MIN",
-        help="fleet plans: minutes of each reload stop in the directions "
-        "(default: 20 sweeping, 15 gritting; see core/fleet/cards.py)",
+        help="fleet plans: minutes of each reload stop, counted in the route times and "
+        "their limit and shown in the directions (default on a map: 20 sweeping, "
+        "15 gritting, see core/fleet/cards.py; none for research files)",
     )
 
 

@@ -93,7 +93,12 @@ def fleet():
         name="gritter", home="n0_0", count=2, capacity=1.0, capacity_unit="t", demand_per_km=1.0
     )
     settings = FleetSettings(
-        vehicles=(vt,), refill_sites=("n3_3",), seed=0, time_limit=5.0, iterations=300
+        vehicles=(vt,),
+        refill_sites=("n3_3",),
+        reload_min=STOP_MINUTES["gritting"],
+        seed=0,
+        time_limit=5.0,
+        iterations=300,
     )
     plan = plan_fleet(network, settings)
     report = check_plan(network, plan, settings)

@@ -172,6 +172,7 @@ def fleet_plan_to_dict(plan: FleetPlan) -> dict[str, Any]:
         "exact": False,
         "seed": plan.seed,
         "day": plan.day,
+        "reload_min": _num(plan.reload_min),
         "feasible": plan.feasible,
         "issues": list(plan.issues),
         "class_done_min": {str(k): _num(v) for k, v in plan.class_done_min.items()},
@@ -242,6 +243,7 @@ def fleet_plan_from_dict(doc: dict[str, Any], *, source: str = "plan") -> FleetP
             dict(doc.get("timings_s", {})),
             list(doc.get("notes", [])),
             doc.get("day"),
+            float(doc.get("reload_min") or 0.0),
         )
     except (KeyError, IndexError, TypeError, ValueError) as exc:
         raise InputError(

@@ -222,7 +222,8 @@ def fleet_cards(
     load_unit
         Unit of the trip loads (``"m3"``, ``"t"``, or ``""`` for research units).
     stop_minutes
-        Minutes of each reload stop (default :data:`STOP_MINUTES`).
+        Minutes of each reload stop; default the plan's own (``plan.reload_min``), so
+        that the card's clock agrees with the route times the plan was checked with.
     capacity
         The vehicles' capacity in ``load_unit``; replaces the activity's own where the
         units agree, so that the card's material line counts the fleet's loads.
@@ -237,6 +238,8 @@ def fleet_cards(
     if not routes:
         raise FleetError("the fleet plan has no route with passes to print")
     day_text = day if day else weekday_name(plan.day)
+    if stop_minutes is None:
+        stop_minutes = plan.reload_min
     if network.crs is None:
         load_unit = ""  # research formats: demands in the file's own units
     if capacity and load_unit and load_unit == activity.capacity_unit:

@@ -121,6 +121,8 @@ def check_plan(
                 if trip.end not in ok_end:
                     issues.append(f"{where}: the route ends at {trip.end}, not at its depot")
             tt = _check_trip(network, vt, trip, where, turn_ok, forbid, n_passes, issues, done)
+            if k > 0:  # the trip starts by reloading
+                tt.minutes += settings.reload_min
             if vt.capacity is not None and tt.load > vt.capacity * (1 + _TOL):
                 issues.append(f"{where} carries {tt.load:g}, over the capacity {vt.capacity:g}")
             rt.trips.append(tt)

@@ -7,12 +7,13 @@ from __future__ import annotations
 
 import argparse
 import sys
+from dataclasses import replace
 from pathlib import Path
 from typing import TYPE_CHECKING
 
 from core.errors import FleetError
 from core.fleet.result import FleetPlan
-from core.fleet.settings import WEEKDAYS, FleetSettings, VehicleType, settings_from_network
+from core.fleet.settings import WEEKDAYS, FleetSettings, settings_from_choices
 from core.model import Network
 
 if TYPE_CHECKING:
@@ -97,34 +98,33 @@ def settings_from_args(
     network: Network, depot: str | None, args: argparse.Namespace, vehicles: int | None = None
 ) -> FleetSettings:
     """Fleet settings from the file and the options; the activity gives speeds and the
-    demand model of streets without their own demand."""
+    demand model of streets without their own demand.  Reload stops take
+    ``--stop-minutes``, else the activity's usual time on a map
+    (:data:`core.fleet.cards.STOP_MINUTES`), else none (research files: the
+    published instances count no reload time)."""
     from core.activity import activity_preset
 
-    base = VehicleType()
     activity = getattr(args, "activity", None)
-    if activity:
-        base = VehicleType.from_activity(
-            activity_preset(activity), capacity=None, max_time_min=None
-        )
-    if depot is not None and not (network.meta or {}).get("depots"):
-        base = VehicleType(**{**_fields(base), "home": depot})
     if vehicles is None and getattr(args, "vehicles", None) is not None:
         vehicles = _counts(args.vehicles)[0]
-    return settings_from_network(
+    settings = settings_from_choices(
         network,
+        depot,
+        activity=activity_preset(activity) if activity else None,
         vehicles=vehicles,
         capacity=getattr(args, "capacity", None),
         max_time_min=getattr(args, "max_time", None),
-        base=base,
         seed=getattr(args, "seed", 0),
         day=getattr(args, "day", None),
-        time_limit=getattr(args, "search_time", 10.0),
+        search_time=getattr(args, "search_time", 10.0),
         iterations=getattr(args, "iterations", None),
     )
+    stop = getattr(args, "stop_minutes", None)
+    if stop is None and activity and network.crs is not None:
+        from core.fleet.cards import DEFAULT_STOP_MINUTES, STOP_MINUTES
 
-
-def _fields(v: VehicleType) -> dict[str, object]:
-    return {k: getattr(v, k) for k in v.__slots__}  # type: ignore[attr-defined]
+        stop = STOP_MINUTES.get(activity, DEFAULT_STOP_MINUTES)
+    return replace(settings, reload_min=float(stop)) if stop is not None else settings
 
 
 def fleet_summary(network: Network, plan: FleetPlan, units: dict[str, str] | None = None) -> str:

@@ -184,16 +184,24 @@ class NodeModel:
 
         self.depot_node: list[str | None] = []  # None: a virtual end (nearest refill)
 
-        def depot(key: object, row: int, cols: list[int]) -> int:
+        def depot(key: object, row: int, cols: list[int], node: str | None = None) -> int:
             if key not in depot_index:
                 depot_index[key] = len(depot_rows)
                 depot_rows.append(row)
                 depot_cols.append(cols)
-                self.depot_node.append(key if isinstance(key, str) else None)
+                self.depot_node.append(key if isinstance(key, str) else node)
             return depot_index[key]
 
         self.start_depot = [depot(s, graph.free(s), [graph.terminal(s)]) for s in starts]
-        self.reload = [depot(r, graph.free(r), [graph.terminal(r)]) for r in refill_nodes]
+        # With a reload stop time, a refill site that is also a home gets a depot of its
+        # own: PyVRP charges a depot's service time at the start of every trip from it,
+        # and leaving home is no reload.
+        stop = timed and settings.reload_min > 0
+        self.reload_min = settings.reload_min if stop else 0.0
+        self.reload = [
+            depot(("reload", r) if stop else r, graph.free(r), [graph.terminal(r)], r)
+            for r in refill_nodes
+        ]
         self.end_depot = []
         for k, states in enumerate(end_states):
             if len(states) == 1 and states[0] == graph.terminal(starts[k]):
@@ -298,7 +306,10 @@ class NodeModel:
             per_client.append((q, s))
         n = self.nd + len(self.clients)
         locations = [pyvrp.Location(0, 0) for _ in range(n)]
-        depots = [pyvrp.Depot(k) for k in range(self.nd)]
+        stop = round(self.reload_min * 600)
+        depots = [
+            pyvrp.Depot(k, service_duration=stop if k in self.reload else 0) for k in range(self.nd)
+        ]
         alternative = self.mode == "groups"
         group_of: dict[int, int] = {}
         groups = []

@@ -495,7 +495,7 @@ class _RouteGrowth:
                 refills, key=lambda n: g.dist(self.here, g.terminal(n)) + g.dist(g.free(n), arc)
             )
             self.length += g.dist(self.here, g.terminal(r))
-            self.minutes += g.minutes(self.here, g.terminal(r))
+            self.minutes += g.minutes(self.here, g.terminal(r)) + self.ctx.settings.reload_min
             self.here, self.load = g.free(r), 0.0
             self.cuts.append(self.n)
         self.length += g.dist(self.here, arc)
@@ -603,7 +603,7 @@ def _greedy_multitrip(ctx: _Context, tour: list[Visit]) -> list[RouteSpec]:
             if v.capacity is not None and load + t.demand > v.capacity * (1 + 1e-9) and cur:
                 # reload at the nearest refill site
                 r = min(refills, key=lambda n: g.dist(here, g.terminal(n)))
-                minutes += _path_min(g, here, g.terminal(r))
+                minutes += _path_min(g, here, g.terminal(r)) + settings.reload_min
                 trips.append(cur)
                 cur, load, here = [], 0.0, g.free(r)
                 continue
@@ -657,6 +657,7 @@ def realise(
         for n, visits in enumerate(trips):
             steps = []
             load = 0.0
+            stop = settings.reload_min if n > 0 else 0.0  # the reload this trip starts with
             for ti, arc in visits:
                 path = g.path(here, arc)
                 steps += [g.step(a, False) for a in path[:-1]]
@@ -673,7 +674,8 @@ def realise(
             end = min(ends, key=lambda s: g.dist(here, s))
             steps += [g.step(a, False) for a in g.path(here, end)]
             end_node = g.node_ids[end - g.n_arcs - len(g.node_ids)]
-            trip = Trip(node, end_node, steps, load, 0.0)
+            trip = Trip(node, end_node, steps, load, stop)
+            clock += stop
             for s in steps:
                 seg = ctx.network.segments[s.segment]
                 clock += v.pass_minutes(seg, s.service)
@@ -694,6 +696,7 @@ def realise(
         ctx.network.name,
         class_done_min=dict(sorted(class_done.items())),
         day=settings.day,
+        reload_min=settings.reload_min,
     )
 
 

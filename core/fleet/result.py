@@ -13,7 +13,8 @@ from core.plan import Plan, Step, StepTotals
 class Trip(StepTotals):
     """One load: a connected walk from a depot or refill site to a refill site or depot.
 
-    ``load`` is in the capacity's unit, ``minutes`` the driving and service time.
+    ``load`` is in the capacity's unit, ``minutes`` the driving and service time plus,
+    for every trip after a route's first, the reload stop it starts with.
     """
 
     start: str
@@ -98,6 +99,8 @@ class FleetPlan:
     timings: dict[str, float] = field(default_factory=dict)
     notes: list[str] = field(default_factory=list)
     day: str | None = None
+    reload_min: float = 0.0
+    """Minutes each reload stop took in the plan's times (:attr:`FleetSettings.reload_min`)."""
 
     @property
     def total_m(self) -> float:

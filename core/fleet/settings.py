@@ -156,6 +156,9 @@ class FleetSettings:
     vehicles: tuple[VehicleType, ...] = (VehicleType(),)
     refill_sites: tuple[str, ...] = ()
     """Nodes where a vehicle may reload mid-route (salt stores, tipping points)."""
+    reload_min: float = 0.0
+    """Minutes each reload stop between two trips takes (loading salt, tipping the
+    hopper); counted in the route's time, against its limit, and on its card."""
     uturns: str = "auto"
     day: str | None = None
     """Plan only the streets serviced on this weekday (``"mon"`` … ``"sun"``)."""
@@ -179,6 +182,10 @@ class FleetSettings:
             raise FleetError("a fleet plan needs at least one vehicle type")
         if not (math.isfinite(self.time_limit) and self.time_limit > 0):
             raise FleetError(f"the time limit must be above 0 seconds, not {self.time_limit!r}")
+        if not (math.isfinite(self.reload_min) and self.reload_min >= 0):
+            raise FleetError(
+                f"the minutes of a reload stop must be 0 or more, not {self.reload_min!r}"
+            )
 
     def check_nodes(self, network: Network) -> None:
         """Raise :class:`FleetError` naming a depot or refill site that is not a node."""
@@ -271,3 +278,44 @@ def settings_from_network(
             # (common practice: the salt store or tipping point is at the depot).
             refills = (depot,)
     return FleetSettings(vehicles=tuple(types), refill_sites=refills, **kwargs)
+
+
+def settings_from_choices(
+    network: Network,
+    depot: str | None = None,
+    *,
+    activity: Any = None,
+    vehicles: int | None = None,
+    capacity: float | None = None,
+    max_time_min: float | None = None,
+    seed: int = 0,
+    day: str | None = None,
+    search_time: float = 10.0,
+    iterations: int | None = None,
+) -> FleetSettings:
+    """Fleet settings from the file and a person's choices: what ``roundsman plan`` builds
+    from its options and the window from its Vehicles settings, in one place.
+
+    ``activity`` (a :class:`core.activity.Activity`, or ``None`` for plain distances)
+    gives the speeds and the demand model of streets without their own demand; its
+    capacity and time target are not applied here (pass them as ``capacity`` and
+    ``max_time_min`` to use them).  ``depot`` becomes the vehicles' home unless the file
+    lists depots of its own.  Then :func:`settings_from_network`: the file's figures,
+    overridden by the choices that are not ``None``.  O(vehicles the file lists).
+    """
+    base = VehicleType()
+    if activity is not None:
+        base = VehicleType.from_activity(activity, capacity=None, max_time_min=None)
+    if depot is not None and not (network.meta or {}).get("depots"):
+        base = replace(base, home=depot)
+    return settings_from_network(
+        network,
+        vehicles=vehicles,
+        capacity=capacity,
+        max_time_min=max_time_min,
+        base=base,
+        seed=seed,
+        day=day,
+        time_limit=search_time,
+        iterations=iterations,
+    )
