@@ -116,9 +116,11 @@ class MainWindow(QMainWindow):
 
         self.install_planning()
         from app.compare import install_comparison
+        from app.fleet import install_fleet
         from app.importing import install_importing
 
         self.comparison = install_comparison(self)
+        self.fleet = install_fleet(self)
         self.importing = install_importing(self)
         self._restore_layout()
         if network is not None:

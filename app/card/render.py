@@ -72,6 +72,7 @@ __all__ = [
     "paint_card",
     "paint_cards",
     "print_card",
+    "print_cards",
     "rows_per_page",
     "write_card_pdf",
     "write_cards_pdf",
@@ -692,4 +693,34 @@ def print_card(parent_widget: object, content: CardContent, page_size: str = "A4
         if pid == chosen:
             name = key
     paint_card(printer, content, name)
+    return True
+
+
+def print_cards(
+    parent_widget: object, contents: Sequence[CardContent], page_size: str = "A4"
+) -> bool:
+    """Ask for a printer with a :class:`QPrintDialog` and print several cards (a fleet
+    plan: one per vehicle route, each starting on a new page, as :func:`paint_cards`).
+
+    Returns False when the user cancels.  Raises :class:`RoundsmanError` when there is
+    no card to print.
+    """
+    from PySide6.QtPrintSupport import QPrintDialog, QPrinter
+
+    if not contents:
+        raise RoundsmanError("there is no route card to print")
+    name = check_page_size(page_size)
+    printer = QPrinter(QPrinter.PrinterMode.HighResolution)
+    printer.setFullPage(True)
+    _setup(printer, name)
+    printer.setDocName(f"Route cards {contents[0].header.district}".strip())
+    dialog = QPrintDialog(printer, parent_widget)  # type: ignore[arg-type]
+    dialog.setWindowTitle("Print the route cards")
+    if dialog.exec() != QPrintDialog.DialogCode.Accepted:
+        return False
+    chosen = printer.pageLayout().pageSize().id()
+    for key, pid in PAGE_SIZES.items():
+        if pid == chosen:
+            name = key
+    paint_cards(printer, contents, name)
     return True

@@ -7,7 +7,6 @@ from __future__ import annotations
 
 import argparse
 import sys
-from dataclasses import replace
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -98,16 +97,14 @@ def settings_from_args(
     network: Network, depot: str | None, args: argparse.Namespace, vehicles: int | None = None
 ) -> FleetSettings:
     """Fleet settings from the file and the options; the activity gives speeds and the
-    demand model of streets without their own demand.  Reload stops take
-    ``--stop-minutes``, else the activity's usual time on a map
-    (:data:`core.fleet.cards.STOP_MINUTES`), else none (research files: the
-    published instances count no reload time)."""
+    demand model of streets without their own demand; reload stops take
+    ``--stop-minutes`` (default: see :func:`settings_from_choices`)."""
     from core.activity import activity_preset
 
     activity = getattr(args, "activity", None)
     if vehicles is None and getattr(args, "vehicles", None) is not None:
         vehicles = _counts(args.vehicles)[0]
-    settings = settings_from_choices(
+    return settings_from_choices(
         network,
         depot,
         activity=activity_preset(activity) if activity else None,
@@ -118,13 +115,8 @@ def settings_from_args(
         day=getattr(args, "day", None),
         search_time=getattr(args, "search_time", 10.0),
         iterations=getattr(args, "iterations", None),
+        reload_min=getattr(args, "stop_minutes", None),
     )
-    stop = getattr(args, "stop_minutes", None)
-    if stop is None and activity and network.crs is not None:
-        from core.fleet.cards import DEFAULT_STOP_MINUTES, STOP_MINUTES
-
-        stop = STOP_MINUTES.get(activity, DEFAULT_STOP_MINUTES)
-    return replace(settings, reload_min=float(stop)) if stop is not None else settings
 
 
 def fleet_summary(network: Network, plan: FleetPlan, units: dict[str, str] | None = None) -> str:

@@ -292,6 +292,7 @@ def settings_from_choices(
     day: str | None = None,
     search_time: float = 10.0,
     iterations: int | None = None,
+    reload_min: float | None = None,
 ) -> FleetSettings:
     """Fleet settings from the file and a person's choices: what ``roundsman plan`` builds
     from its options and the window from its Vehicles settings, in one place.
@@ -301,14 +302,18 @@ def settings_from_choices(
     capacity and time target are not applied here (pass them as ``capacity`` and
     ``max_time_min`` to use them).  ``depot`` becomes the vehicles' home unless the file
     lists depots of its own.  Then :func:`settings_from_network`: the file's figures,
-    overridden by the choices that are not ``None``.  O(vehicles the file lists).
+    overridden by the choices that are not ``None``.  Reload stops take ``reload_min``
+    minutes; ``None`` means the activity's usual stop on a map
+    (:data:`core.fleet.cards.STOP_MINUTES`, from memory there) and none on research files
+    without coordinates (their published instances count no reload time).
+    O(vehicles the file lists).
     """
     base = VehicleType()
     if activity is not None:
         base = VehicleType.from_activity(activity, capacity=None, max_time_min=None)
     if depot is not None and not (network.meta or {}).get("depots"):
         base = replace(base, home=depot)
-    return settings_from_network(
+    settings = settings_from_network(
         network,
         vehicles=vehicles,
         capacity=capacity,
@@ -319,3 +324,8 @@ def settings_from_choices(
         time_limit=search_time,
         iterations=iterations,
     )
+    if reload_min is None and activity is not None and network.crs is not None:
+        from core.fleet.cards import DEFAULT_STOP_MINUTES, STOP_MINUTES
+
+        reload_min = STOP_MINUTES.get(activity.name, DEFAULT_STOP_MINUTES)
+    return replace(settings, reload_min=float(reload_min or 0.0))
