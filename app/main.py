@@ -8,6 +8,7 @@ from :mod:`app.plan`.
 
 from __future__ import annotations
 
+import os
 import sys
 from pathlib import Path
 
@@ -38,13 +39,16 @@ from app.canvas.view import CanvasView
 from app.document import NetworkDocument
 from app.files import (
     ALL_FILES,
+    BACKGROUND_BYTES,
     GEOJSON_FILTER,
     PLAN_FILTER,
     PROJECT_FILTER,
     PROJECT_SUFFIX,
+    ReadCancelled,
     RecentFiles,
     import_filters,
     open_network,
+    read_off_thread,
 )
 from app.panels.legend import LegendPanel
 from app.panels.preferences import Preferences, PreferencesDialog
@@ -86,6 +90,8 @@ class MainWindow(QMainWindow):
     ) -> None:
         super().__init__()
         self.settings = settings if settings is not None else QSettings()
+        self.background_bytes = BACKGROUND_BYTES
+        """Files this large or larger are read off the window's thread."""
         self.recent = RecentFiles(self.settings)
         self.document = NetworkDocument(parent=self)
         self.scene = StreetScene(self.document, self)
@@ -379,7 +385,12 @@ class MainWindow(QMainWindow):
         if options is None and importing is not None and importing.wants_options(path):
             return importing.import_path(path)
         try:
-            network, is_project = open_network(path, **(options or {}))
+            network, is_project = self._read(path, options or {})
+        except ReadCancelled:
+            self.statusBar().showMessage(
+                f"Stopped reading {Path(path).name}; the drawing is unchanged.", 10000
+            )
+            return False
         except RoundsmanError as exc:
             self._warn("Cannot open", str(exc))
             self.recent.remove(str(Path(path).resolve()))
@@ -402,6 +413,21 @@ class MainWindow(QMainWindow):
             10000,
         )
         return True
+
+    def _read(self, path: str | Path, options: dict) -> tuple[Network, bool]:
+        """Read ``path``; files of :attr:`background_bytes` or more off the window's thread
+        with a progress dialog and Cancel (:func:`app.files.read_off_thread`)."""
+        try:
+            size = os.path.getsize(path)
+        except OSError:
+            size = 0  # let the reader say what is wrong with the path
+        if size < self.background_bytes:
+            return open_network(path, **options)
+        return read_off_thread(
+            self,
+            lambda: open_network(path, **options),
+            f"Reading {Path(path).name} ({size / 1e6:.1f} MB)…",
+        )
 
     def save(self) -> bool:
         if self.document.path is None:

@@ -10,13 +10,15 @@ plan is read back with ``plan_from_dict``.
 from __future__ import annotations
 
 import json
+import threading
 from pathlib import Path
 
 import pytest
-from PySide6.QtCore import QMimeData, QPointF, Qt, QUrl
+from PySide6.QtCore import QMimeData, QPointF, Qt, QTimer, QUrl
 from PySide6.QtGui import QDropEvent
-from PySide6.QtWidgets import QMessageBox
+from PySide6.QtWidgets import QApplication, QMessageBox, QProgressDialog
 
+import app.main as main_module
 from app.files import import_filters, is_project_file
 from app.panels.preferences import Preferences, PreferencesDialog
 from app.recovery import find_recoverable
@@ -66,6 +68,54 @@ def test_open_refuses_a_broken_file_with_a_message(qtbot, window, tmp_path) -> N
     assert not window.open_path(bad, ask=False)
     assert window.warnings and "line" in window.warnings[0][1]
     assert snapshot(window.document.network) == before
+
+
+def test_large_files_are_read_off_the_window_thread(qtbot, window, tmp_path, monkeypatch) -> None:
+    # With the size threshold at 0 every file goes through the reading thread: the
+    # result must equal the synchronous read, and a broken file still gives its message
+    # (here the JSON parser's line number) on the window's thread.
+    seen: list[str] = []
+    real = main_module.open_network
+
+    def spy(path, **options):
+        seen.append(threading.current_thread().name)
+        return real(path, **options)
+
+    window.background_bytes = 0
+    monkeypatch.setattr(main_module, "open_network", spy)
+    assert window.open_path(SAMPLE, ask=False)
+    assert seen == ["roundsman-read"]
+    direct, _ = real(SAMPLE)
+    assert snapshot(window.document.network) == snapshot(direct)
+    bad = tmp_path / "bad.json"
+    bad.write_text('{"type": "FeatureCollection", "features": [', encoding="utf-8")
+    assert not window.open_path(bad, ask=False)
+    assert window.warnings and "line" in window.warnings[-1][1]
+
+
+def test_cancel_while_reading_leaves_the_drawing(qtbot, window, monkeypatch) -> None:
+    release = threading.Event()
+    real = main_module.open_network
+
+    def slow(path, **options):
+        release.wait(10)
+        return real(path, **options)
+
+    monkeypatch.setattr(main_module, "open_network", slow)
+    window.background_bytes = 0
+    before = snapshot(window.document.network)
+
+    def press_cancel() -> None:
+        dialogs = [w for w in QApplication.topLevelWidgets() if isinstance(w, QProgressDialog)]
+        dialogs += window.findChildren(QProgressDialog)
+        assert dialogs, "the reading dialog should be showing"
+        dialogs[0].cancel()
+
+    QTimer.singleShot(200, press_cancel)
+    assert not window.open_path(SAMPLE, ask=False)
+    release.set()
+    assert snapshot(window.document.network) == before
+    assert "Stopped reading" in window.statusBar().currentMessage()
 
 
 def test_import_filters_offer_every_readable_format() -> None:
