@@ -87,8 +87,23 @@ class StateGraph:
         self.turn_ok = uturn_places(network)
         self._build()
         self._rows: dict[int, tuple[np.ndarray, np.ndarray]] = {}
-        self._mins: dict[int, np.ndarray] = {}
+        self._mins: dict[tuple[int, int], np.ndarray] = {}
         self._cycles: dict[int, int | None] = {}
+        self.profiles: list[np.ndarray] = [self.arc_min]
+        """Deadhead minutes per arc for each speed profile; 0 is the vehicle given here."""
+
+    def profile_of(self, vehicle: VehicleType) -> int:
+        """The index of ``vehicle``'s speed profile in :attr:`profiles`, added when new:
+        the paths stay the shortest by length, only their minutes differ.  O(arcs)."""
+        mins = np.asarray(
+            [vehicle.pass_minutes(self.network.segments[s], False) for s in self.arc_seg],
+            dtype=float,
+        )
+        for k, known in enumerate(self.profiles):
+            if np.array_equal(known, mins):
+                return k
+        self.profiles.append(mins)
+        return len(self.profiles) - 1
 
     # -- states ---------------------------------------------------------------------------------
     @property
@@ -189,15 +204,18 @@ class StateGraph:
         seq.reverse()
         return seq
 
-    def minutes(self, source: int, target: int) -> float:
-        """Driving minutes along the shortest path of :meth:`dist` (deadhead speeds),
-        including the target arc when it is an arc state.  O(N log N) once per source."""
+    def minutes(self, source: int, target: int, profile: int = 0) -> float:
+        """Driving minutes along the shortest path of :meth:`dist` (deadhead speeds of
+        ``profile``), including the target arc when it is an arc state.  O(N log N) once
+        per source."""
         if source == target:
             if source >= self.n_arcs:
                 return 0.0
             p = self._cycle_pred(source)
-            return np.inf if p is None else self.minutes(source, p) + float(self.arc_min[source])
-        return float(self.minutes_row(source)[target])
+            if p is None:
+                return np.inf
+            return self.minutes(source, p, profile) + float(self.profiles[profile][source])
+        return float(self.minutes_row(source, profile)[target])
 
     def _cycle_pred(self, arc: int) -> int | None:
         """The state before ``arc`` on the shortest closed walk from ``arc`` back into it
@@ -217,13 +235,15 @@ class StateGraph:
         self._cycles[arc] = best_p
         return best_p
 
-    def minutes_row(self, source: int) -> np.ndarray:
-        """Minutes from ``source`` to every state (see :meth:`minutes`)."""
-        if source not in self._mins:
+    def minutes_row(self, source: int, profile: int = 0) -> np.ndarray:
+        """Minutes from ``source`` to every state (see :meth:`minutes`), at the speeds of
+        ``profile`` (:meth:`profile_of`)."""
+        key = (source, profile)
+        if key not in self._mins:
             self.rows([source])
             dist, pred = self._rows[source]
-            self._mins[source] = tree_minutes(self, source, dist, pred)
-        return self._mins[source]
+            self._mins[key] = tree_minutes(self, source, dist, pred, self.profiles[profile])
+        return self._mins[key]
 
     def deadhead(self, source: int, arc: int) -> float:
         """Deadhead length from ``source`` to the start of servicing ``arc``."""
@@ -318,14 +338,21 @@ def check_reachable(graph: StateGraph, tasks: list[Task], starts: list[str]) -> 
         )
 
 
-def tree_minutes(graph: StateGraph, source: int, d: np.ndarray, pred: np.ndarray) -> np.ndarray:
+def tree_minutes(
+    graph: StateGraph,
+    source: int,
+    d: np.ndarray,
+    pred: np.ndarray,
+    arc_min: np.ndarray | None = None,
+) -> np.ndarray:
     """Minutes along the shortest-length paths of one Dijkstra tree (states in order of
-    distance, each adding its arc's minutes to its predecessor's).  O(N log N)."""
+    distance, each adding its arc's minutes, ``arc_min`` or the graph's, to its
+    predecessor's).  O(N log N)."""
     m = np.full(len(d), np.inf)
     m[source] = 0.0
     order = np.argsort(d, kind="stable")
     na = graph.n_arcs
-    arc_min = graph.arc_min
+    arc_min = graph.arc_min if arc_min is None else arc_min
     for t in order.tolist():
         if t == source or not np.isfinite(d[t]):
             continue

@@ -27,9 +27,12 @@ client groups.  Two transformations of the passes are offered (``mode``):
 In both, the distance between nodes is the deadhead from the arc just serviced to
 the start of the next, on the turn-aware state graph
 (:class:`core.fleet.graph.StateGraph`), so one-way streets and turn rules hold; the
-service length is a constant left out of the objective.  Decoded plans are checked
-by the independent :mod:`core.fleet.check`.  Cost: the matrices O(L²) for L nodes;
-the search runs for its time budget.
+service length is a constant left out of the objective.  Vehicle types with other speeds
+get their own PyVRP routing profile (durations along the same shortest paths, their own
+service minutes folded into the travel times to each client, as PyVRP's service time
+belongs to the client); loads stay the first type's (PyVRP's demand is the client's).
+Decoded plans are checked by the independent :mod:`core.fleet.check`.  Cost: the
+matrices O(P·L²) for L nodes and P speed profiles; the search runs for its time budget.
 """
 
 from __future__ import annotations
@@ -228,29 +231,21 @@ class NodeModel:
         row_states = depot_rows + [c[2] for c in self.clients]
         graph.rows([s for s in row_states if s >= 0])
         dist = np.full((nd + nc, nd + nc), np.inf)
-        mins = np.zeros((nd + nc, nd + nc))
         col_arc = np.array([c[1] for c in self.clients], dtype=np.int64)
+        nearest: list[list[int]] = []  # per row: the depot column state reached first
         for i, s in enumerate(row_states):
             if s < 0:
+                nearest.append([])
                 continue
             d, _pred = graph._rows[s]
-            m = graph.minutes_row(s) if timed else None
             # to clients: the path to the entry arc minus that arc
             row = d[col_arc] - graph.arc_len[col_arc]
             same = col_arc == s
             if np.any(same):
                 row[same] = graph.dist(s, s) - graph.arc_len[s]
             dist[i, nd:] = row
-            if m is not None:
-                mins[i, nd:] = m[col_arc] - graph.arc_min[col_arc]
-                if np.any(same):
-                    mins[i, nd:][same] = graph.minutes(s, s) - graph.arc_min[s]
-            for j, cols in enumerate(depot_cols):
-                dj = d[cols]
-                k = int(np.argmin(dj))
-                dist[i, j] = dj[k]
-                if m is not None:
-                    mins[i, j] = m[cols[k]]
+            nearest.append([cols[int(np.argmin(d[cols]))] for cols in depot_cols])
+            dist[i, :nd] = d[nearest[-1]]
         finite = dist[np.isfinite(dist)]
         longest = float(finite.max()) if finite.size else 1.0
         self.dscale = 1 if np.allclose(graph.arc_len, np.round(graph.arc_len)) else 100
@@ -273,14 +268,42 @@ class NodeModel:
         np.fill_diagonal(di, 0)
         di = np.minimum(di, _BIG)
         self.distance = di
-        dur = np.round(np.clip(np.where(np.isfinite(mins), mins, 0), 0, None) * 600)
-        dur = dur.astype(np.int64)
-        if mode == "pairs":
-            dur[same_task] = 0
-        np.fill_diagonal(dur, 0)
-        self.duration = dur
         self.nd = nd
+        # one speed profile per distinct set of vehicle speeds (PyVRP routing profiles)
+        vs = settings.vehicles
+        self.profile = [graph.profile_of(v) for v in vs] if timed else [0] * len(vs)
+        self.durations = []
+        for p in range(max(self.profile) + 1):
+            mins = self._minutes(row_states, col_arc, nearest, p) if timed else None
+            dur = np.zeros((nd + nc, nd + nc), dtype=np.int64)
+            if mins is not None:
+                dur = np.round(np.clip(np.where(np.isfinite(mins), mins, 0), 0, None) * 600)
+                dur = dur.astype(np.int64)
+            if mode == "pairs":
+                dur[same_task] = 0
+            np.fill_diagonal(dur, 0)
+            self.durations.append(dur)
+        self.duration = self.durations[0]
         self._build_data(settings, timed)
+
+    def _minutes(
+        self, row_states: list[int], col_arc: np.ndarray, nearest: list[list[int]], p: int
+    ) -> np.ndarray:
+        """Deadhead minutes between the nodes at the speeds of profile ``p``, along the
+        shortest-length paths of the distance matrix.  O(n²)."""
+        g, nd = self.graph, self.nd
+        am = g.profiles[p]
+        mins = np.zeros((len(row_states), len(row_states)))
+        for i, s in enumerate(row_states):
+            if s < 0:
+                continue
+            m = g.minutes_row(s, p)
+            mins[i, nd:] = m[col_arc] - am[col_arc]
+            same = col_arc == s
+            if np.any(same):
+                mins[i, nd:][same] = g.minutes(s, s, p) - am[s]
+            mins[i, :nd] = m[nearest[i]]
+        return mins
 
     def _build_data(self, settings: FleetSettings, timed: bool) -> None:
         caps = [v.capacity for v in settings.vehicles]
@@ -294,16 +317,32 @@ class NodeModel:
         count = {t.index: 0 for t in self.tasks}
         for ti, _, _ in self.clients:
             count[ti] += 1
+        # service minutes of each task per speed profile (profile 0: the tasks' own)
+        segs = self.graph.network.segments
+        service_min = [[t.service_min for t in self.tasks]]
+        for p in range(1, len(self.durations)):
+            v = settings.vehicles[self.profile.index(p)]
+            service_min.append([v.pass_minutes(segs[t.segment], True) for t in self.tasks])
+        services: list[list[int]] = [[] for _ in self.durations]
         for ti, _, _ in self.clients:
             t = self.tasks[ti]
             q = math.ceil(t.demand * self.qscale - 1e-6)
-            s = round(t.service_min * 600)
+            ss = [round(sm[ti] * 600) for sm in service_min]
             if count[ti] == 2 and self.mode == "pairs":
                 first = self.clients.index((ti, t.arcs[0], t.arcs[1]))
                 mine = len(per_client) == first
                 q = q // 2 + (q % 2 if mine else 0)
-                s = s // 2 + (s % 2 if mine else 0)
-            per_client.append((q, s))
+                ss = [s // 2 + (s % 2 if mine else 0) for s in ss]
+            for p, s in enumerate(ss):
+                services[p].append(s)
+            per_client.append((q, ss[0]))
+        if len(self.durations) > 1:
+            # Service times differ by vehicle, but PyVRP's belong to the client: fold each
+            # profile's service into its travel times to the client instead.
+            for p, dur in enumerate(self.durations):
+                dur[:, self.nd :] += np.asarray(services[p], dtype=np.int64)[None, :]
+                np.fill_diagonal(dur, 0)
+            per_client = [(q, 0) for q, _ in per_client]
         n = self.nd + len(self.clients)
         locations = [pyvrp.Location(0, 0) for _ in range(n)]
         stop = round(self.reload_min * 600)
@@ -351,12 +390,19 @@ class NodeModel:
                     capacity=cap,
                     start_depot=self.start_depot[k],
                     end_depot=self.end_depot[k],
+                    profile=self.profile[k],
                     name=v.name,
                     **kwargs,
                 )
             )
         self.data = pyvrp.ProblemData(
-            locations, clients, depots, types, [self.distance], [self.duration], groups=groups
+            locations,
+            clients,
+            depots,
+            types,
+            [self.distance] * len(self.durations),
+            self.durations,
+            groups=groups,
         )
 
     # -- to and from PyVRP -----------------------------------------------------------------------

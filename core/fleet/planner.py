@@ -91,15 +91,23 @@ class _Context:
             [g.terminal(h)] if v.end_at == "home" else refill_ends
             for v, h in zip(settings.vehicles, homes, strict=True)
         ]
+        self.profile = [g.profile_of(v) for v in settings.vehicles]
+        """Per vehicle type, its speed profile in the state graph."""
+        self.service_min = [
+            [v.pass_minutes(network.segments[t.segment], True) for t in self.tasks]
+            for v in settings.vehicles
+        ]
+        """Per vehicle type, the service minutes of each task at its speeds."""
 
     def end_of(self, k: int) -> Callable[[int], tuple[float, float]]:
         """For vehicle type k: (length, minutes) from an arc to the route's end."""
         g = self.graph
         states = self.end_states[k]
+        p = self.profile[k]
 
         def f(arc: int) -> tuple[float, float]:
             best = min(states, key=lambda s: g.dist(arc, s))
-            return g.dist(arc, best), g.minutes(arc, best)
+            return g.dist(arc, best), g.minutes(arc, best, p)
 
         return f
 
@@ -477,6 +485,7 @@ class _RouteGrowth:
     def __init__(self, ctx: _Context, kt: int) -> None:
         self.ctx, self.kt = ctx, kt
         self.v = ctx.settings.vehicles[kt]
+        self.p = ctx.profile[kt]
         self.here = ctx.graph.free(ctx.homes[kt])
         self.length = self.minutes = self.load = 0.0
         self.cuts: list[int] = []  # visits after which the vehicle reloads
@@ -495,11 +504,12 @@ class _RouteGrowth:
                 refills, key=lambda n: g.dist(self.here, g.terminal(n)) + g.dist(g.free(n), arc)
             )
             self.length += g.dist(self.here, g.terminal(r))
-            self.minutes += g.minutes(self.here, g.terminal(r)) + self.ctx.settings.reload_min
+            back = g.minutes(self.here, g.terminal(r), self.p)
+            self.minutes += back + self.ctx.settings.reload_min
             self.here, self.load = g.free(r), 0.0
             self.cuts.append(self.n)
         self.length += g.dist(self.here, arc)
-        self.minutes += _path_min(g, self.here, arc) + t.service_min
+        self.minutes += _path_min(g, self.here, arc, self.p) + self.ctx.service_min[self.kt][ti]
         self.load += t.demand
         self.here = arc
         self.n += 1
@@ -598,12 +608,12 @@ def _greedy_multitrip(ctx: _Context, tour: list[Visit]) -> list[RouteSpec]:
         while i < len(tour):
             ti, arc = tour[i]
             t = ctx.tasks[ti]
-            step_min = _path_min(g, here, arc) + t.service_min
+            step_min = _path_min(g, here, arc, ctx.profile[kt]) + ctx.service_min[kt][ti]
             end_min = ctx.end_of(kt)(arc)[1]
             if v.capacity is not None and load + t.demand > v.capacity * (1 + 1e-9) and cur:
                 # reload at the nearest refill site
                 r = min(refills, key=lambda n: g.dist(here, g.terminal(n)))
-                minutes += _path_min(g, here, g.terminal(r)) + settings.reload_min
+                minutes += _path_min(g, here, g.terminal(r), ctx.profile[kt]) + settings.reload_min
                 trips.append(cur)
                 cur, load, here = [], 0.0, g.free(r)
                 continue
@@ -625,10 +635,11 @@ def _greedy_multitrip(ctx: _Context, tour: list[Visit]) -> list[RouteSpec]:
     return routes
 
 
-def _path_min(g: StateGraph, source: int, target: int) -> float:
-    """Deadhead minutes to the start of ``target`` (arc) or to ``target`` (terminal)."""
-    m = g.minutes(source, target)
-    return m - float(g.arc_min[target]) if target < g.n_arcs else m
+def _path_min(g: StateGraph, source: int, target: int, profile: int = 0) -> float:
+    """Deadhead minutes to the start of ``target`` (arc) or to ``target`` (terminal), at
+    the speeds of ``profile``."""
+    m = g.minutes(source, target, profile)
+    return m - float(g.profiles[profile][target]) if target < g.n_arcs else m
 
 
 # -- from visits to steps ------------------------------------------------------------------------
