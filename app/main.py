@@ -509,6 +509,9 @@ class MainWindow(QMainWindow):
         plan = self.document.plan
         if plan is None:
             return None
+        fleet = getattr(self, "fleet", None)
+        if fleet is not None and (card := fleet.shown_route_card()) is not None:
+            return card  # a fleet route: its own card, reload stops included
         panel = getattr(getattr(self, "planning", None), "panel", None)
         chooser = getattr(panel, "current_activity", None)
         activity = chooser() if callable(chooser) else SWEEPING

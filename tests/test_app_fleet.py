@@ -159,6 +159,11 @@ def test_fleet_plan_of_gdb1_in_the_window(qtbot, tmp_path, monkeypatch) -> None:
     monkeypatch.setattr(render, "print_cards", lambda w, c, p="A4": printed.append(c) or True)
     ctl.print_action.trigger()
     assert len(printed) == 1 and len(printed[0]) == n
+    # File > Print route card on the shown route prints that route's own fleet card
+    single: list = []
+    monkeypatch.setattr(render, "print_card", lambda w, c, *a, **k: single.append(c) or True)
+    assert window.print_route_card()
+    assert single and single[0] == ctl.card_contents()[k]
 
     # cancel: a second, long run stopped midway leaves everything as it was
     box.search_time.setValue(300.0)

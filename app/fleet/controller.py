@@ -113,6 +113,7 @@ class FleetController(QObject):
         self.page_size = "A4"
         self.dock: QDockWidget | None = None
         self._shown: Plan | None = None
+        self._shown_index = -1
         self._edited_during_run = False
         self._cancelling = False
         self._pending: tuple[FleetSettings | None, Activity | None] = (None, None)
@@ -307,6 +308,7 @@ class FleetController(QObject):
             return
         shown = route.as_plan(self.document.network.name)
         self._shown = shown
+        self._shown_index = index
         self.document.set_plan(shown)
 
     def _show_trips(self, index: int | None) -> None:
@@ -343,6 +345,16 @@ class FleetController(QObject):
                 self._show_trips(None)
 
     # -- route cards -------------------------------------------------------------------
+    def shown_route_card(self) -> CardContent | None:
+        """The fleet card of the route shown on the map (with its reload stops and its
+        "Route i of n" header), or None when the document shows no route of this plan:
+        File ▸ Print route card then prints that card rather than a bare circuit."""
+        if self.plan is None or self._shown is None or self.document.plan is not self._shown:
+            return None
+        route = self.plan.routes[self._shown_index]
+        with_steps = [r for r in self.plan.routes if r.steps]
+        return self.card_contents()[with_steps.index(route)]
+
     def card_contents(self) -> list[CardContent]:
         """One card per vehicle route with passes (:func:`core.fleet.cards.fleet_cards`,
         as ``roundsman card`` makes them).  Raises :class:`RoundsmanError` if none."""
