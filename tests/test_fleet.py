@@ -129,6 +129,35 @@ def test_mixed_fleet_searched_at_each_vehicles_speeds() -> None:
 
 
 @needs_bench
+def test_mixed_fleet_loaded_by_each_vehicles_demand_model() -> None:
+    # gdb1's streets (Golden, DeArmon & Baker 1983) with the demand taken from each
+    # vehicle: a wide spreader loads 1 per metre, a narrow one 0.5.  With capacities of
+    # 0.3 and 0.4 of the whole work in the wide one's units, only a plan that loads the
+    # narrow one by its own model covers everything; the independent checker recomputes
+    # every load from the streets and the vehicle.
+    base = _carp("gdb1")
+    net = base.copy()
+    for sid, seg in base.segments.items():
+        net.segments[sid] = replace(seg, demand=0.0)
+    work = sum(seg.length for seg in net.segments.values())
+    wide = VehicleType(name="wide", home=net.depot, count=1, demand_per_km=1000.0)
+    narrow = VehicleType(name="narrow", home=net.depot, count=1, demand_per_km=500.0)
+    settings = FleetSettings(
+        vehicles=(replace(wide, capacity=0.3 * work), replace(narrow, capacity=0.4 * work)),
+        iterations=2000,
+        time_limit=30,
+    )
+    plan = plan_fleet(net, settings)
+    report = check_plan(net, plan, settings)
+    assert report.feasible, report.issues
+    for route, totals in zip(plan.routes, report.routes, strict=True):
+        for trip, checked in zip(route.trips, totals.trips, strict=True):
+            assert trip.load == pytest.approx(checked.load)
+    by_type = {r.vehicle_type: r for r in plan.routes}
+    assert by_type["narrow"].service_m > 0.6 * work
+
+
+@needs_bench
 def test_tight_loads_reach_the_optimum_with_fewer_routes() -> None:
     # gdb23 (Golden, DeArmon & Baker 1983) packs a demand of 266 into vehicles of 27, so
     # at least 10 routes; its proven optimum 233 (BOUNDS) uses 10, and the search settles

@@ -20,6 +20,7 @@ N states and E turns.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -312,6 +313,16 @@ def build_tasks(network: Network, graph: StateGraph, settings: FleetSettings) ->
                 )
             )
     return tasks
+
+
+def task_demands(network: Network, tasks: Sequence[Task], vehicle: VehicleType) -> list[float]:
+    """The load of each task for ``vehicle``'s demand model (its spread rate, width and
+    unit; a street's own demand is the same for every vehicle).  O(n)."""
+    out = []
+    for t in tasks:
+        seg = network.segments[t.segment]
+        out.append(vehicle.pass_demand(seg, max(1, sum(seg.required_passes()))))
+    return out
 
 
 def check_reachable(graph: StateGraph, tasks: list[Task], starts: list[str]) -> None:

@@ -30,7 +30,8 @@ the start of the next, on the turn-aware state graph
 service length is a constant left out of the objective.  Vehicle types with other speeds
 get their own PyVRP routing profile (durations along the same shortest paths, their own
 service minutes folded into the travel times to each client, as PyVRP's service time
-belongs to the client); loads stay the first type's (PyVRP's demand is the client's).
+belongs to the client); vehicle types with another demand model (spread rate, width)
+load a dimension of their own, as PyVRP's demand also belongs to the client.
 Decoded plans are checked by the independent :mod:`core.fleet.check`.  Cost: the
 matrices O(P·L²) for L nodes and P speed profiles; the search runs for its time budget.
 """
@@ -49,7 +50,7 @@ from pyvrp.search import NeighbourhoodParams
 from pyvrp.solve import SolveParams
 from pyvrp.stop import StoppingCriterion
 
-from core.fleet.graph import StateGraph, Task
+from core.fleet.graph import StateGraph, Task, task_demands
 from core.fleet.settings import FleetSettings
 
 Visit = tuple[int, int]
@@ -305,15 +306,38 @@ class NodeModel:
             mins[i, :nd] = m[nearest[i]]
         return mins
 
+    def _load_models(self, settings: FleetSettings) -> list[list[float]]:
+        """The loads of the tasks under each distinct demand model of the vehicle types
+        (model 0: the tasks' own, the first type's); sets :attr:`load_dim`, the model of
+        each type, and :attr:`qscale`, the integer scale of each model.  O(types · n)."""
+        vs = settings.vehicles
+        models = [[t.demand for t in self.tasks]]
+        self.load_dim = [0] * len(vs)
+        for k, v in enumerate(vs[1:], 1):
+            mine = task_demands(self.graph.network, self.tasks, v)
+            for j, known in enumerate(models):
+                if known == mine:
+                    self.load_dim[k] = j
+                    break
+            else:
+                models.append(mine)
+                self.load_dim[k] = len(models) - 1
+        self.qscale = []
+        for j, loads in enumerate(models):
+            caps = [v.capacity for k, v in enumerate(vs) if self.load_dim[k] == j]
+            known = [c for c in caps if c is not None]
+            integral = all(float(x).is_integer() for x in loads) and all(
+                float(c).is_integer() for c in known
+            )
+            self.qscale.append(1.0 if integral or not known else 1e6 / max(known))
+        return models
+
     def _build_data(self, settings: FleetSettings, timed: bool) -> None:
-        caps = [v.capacity for v in settings.vehicles]
-        demands = [t.demand for t in self.tasks]
-        integral = all(float(x).is_integer() for x in demands) and all(
-            c is None or float(c).is_integer() for c in caps
-        )
-        known = [c for c in caps if c is not None]
-        self.qscale = 1.0 if integral or not known else 1e6 / max(known)
-        per_client: list[tuple[int, int]] = []  # (demand, service) per client
+        # Loads differ by vehicle when their spread rates or widths do, but PyVRP's
+        # demand belongs to the client: each demand model is a load dimension of its
+        # own, limited only for the vehicle types that use it.
+        models = self._load_models(settings)
+        per_client: list[tuple[list[int], int]] = []  # (loads, service) per client
         count = {t.index: 0 for t in self.tasks}
         for ti, _, _ in self.clients:
             count[ti] += 1
@@ -326,12 +350,12 @@ class NodeModel:
         services: list[list[int]] = [[] for _ in self.durations]
         for ti, _, _ in self.clients:
             t = self.tasks[ti]
-            q = math.ceil(t.demand * self.qscale - 1e-6)
+            q = [math.ceil(m[ti] * sc - 1e-6) for m, sc in zip(models, self.qscale, strict=True)]
             ss = [round(sm[ti] * 600) for sm in service_min]
             if count[ti] == 2 and self.mode == "pairs":
                 first = self.clients.index((ti, t.arcs[0], t.arcs[1]))
                 mine = len(per_client) == first
-                q = q // 2 + (q % 2 if mine else 0)
+                q = [x // 2 + (x % 2 if mine else 0) for x in q]
                 ss = [s // 2 + (s % 2 if mine else 0) for s in ss]
             for p, s in enumerate(ss):
                 services[p].append(s)
@@ -364,7 +388,7 @@ class NodeModel:
         clients = [
             pyvrp.Client(
                 self.nd + k,
-                delivery=[q],
+                delivery=q,
                 service_duration=s if timed else 0,
                 required=k not in group_of,
                 group=group_of.get(k),
@@ -373,12 +397,12 @@ class NodeModel:
         ]
         types = []
         n_tasks = max(1, len(self.tasks))
+        unlimited = [sum(q[j] for q, _ in per_client) + 1 for j in range(len(models))]
         for k, v in enumerate(settings.vehicles):
-            cap = (
-                [math.floor(v.capacity * self.qscale + 1e-6)]
-                if v.capacity is not None
-                else [sum(q for q, _ in per_client) + 1]
-            )
+            j = self.load_dim[k]
+            cap = list(unlimited)  # other vehicles' load models do not bind this one
+            if v.capacity is not None:
+                cap[j] = math.floor(v.capacity * self.qscale[j] + 1e-6)
             kwargs: dict[str, object] = {}
             if v.max_time_min is not None:
                 kwargs["shift_duration"] = math.floor(v.max_time_min * 600 + 1e-6)

@@ -34,7 +34,7 @@ import pyvrp
 
 from core.errors import Cancelled, DepotError, RoundsmanError
 from core.fleet.check import check_plan
-from core.fleet.graph import StateGraph, Task, build_tasks, check_reachable
+from core.fleet.graph import StateGraph, Task, build_tasks, check_reachable, task_demands
 from core.fleet.hgs import HandOver, NodeModel
 from core.fleet.result import FleetPlan, Route, Trip
 from core.fleet.settings import FleetSettings, VehicleType, priority_of, serviced_today
@@ -98,6 +98,8 @@ class _Context:
             for v in settings.vehicles
         ]
         """Per vehicle type, the service minutes of each task at its speeds."""
+        self.demand = [task_demands(network, self.tasks, v) for v in settings.vehicles]
+        """Per vehicle type, the load of each task under its demand model."""
 
     def end_of(self, k: int) -> Callable[[int], tuple[float, float]]:
         """For vehicle type k: (length, minutes) from an arc to the route's end."""
@@ -493,9 +495,10 @@ class _RouteGrowth:
         self.ok = True
 
     def add(self, ti: int, arc: int) -> None:
-        g, t = self.ctx.graph, self.ctx.tasks[ti]
+        g = self.ctx.graph
         cap = self.v.capacity
-        if cap is not None and self.load + t.demand > cap * (1 + 1e-9) and self.n:
+        q = self.ctx.demand[self.kt][ti]
+        if cap is not None and self.load + q > cap * (1 + 1e-9) and self.n:
             refills = self.ctx.settings.refill_sites
             if not refills:
                 self.ok = False
@@ -510,7 +513,7 @@ class _RouteGrowth:
             self.cuts.append(self.n)
         self.length += g.dist(self.here, arc)
         self.minutes += _path_min(g, self.here, arc, self.p) + self.ctx.service_min[self.kt][ti]
-        self.load += t.demand
+        self.load += q
         self.here = arc
         self.n += 1
 
@@ -607,10 +610,10 @@ def _greedy_multitrip(ctx: _Context, tour: list[Visit]) -> list[RouteSpec]:
         load = 0.0
         while i < len(tour):
             ti, arc = tour[i]
-            t = ctx.tasks[ti]
             step_min = _path_min(g, here, arc, ctx.profile[kt]) + ctx.service_min[kt][ti]
             end_min = ctx.end_of(kt)(arc)[1]
-            if v.capacity is not None and load + t.demand > v.capacity * (1 + 1e-9) and cur:
+            q = ctx.demand[kt][ti]
+            if v.capacity is not None and load + q > v.capacity * (1 + 1e-9) and cur:
                 # reload at the nearest refill site
                 r = min(refills, key=lambda n: g.dist(here, g.terminal(n)))
                 minutes += _path_min(g, here, g.terminal(r), ctx.profile[kt]) + settings.reload_min
@@ -624,7 +627,7 @@ def _greedy_multitrip(ctx: _Context, tour: list[Visit]) -> list[RouteSpec]:
             ):
                 break
             cur.append((ti, arc))
-            load += t.demand
+            load += q
             minutes += step_min
             here = arc
             i += 1
@@ -673,7 +676,7 @@ def realise(
                 path = g.path(here, arc)
                 steps += [g.step(a, False) for a in path[:-1]]
                 steps.append(g.step(arc, True))
-                load += ctx.tasks[ti].demand
+                load += ctx.demand[kt][ti]
                 here = arc
             if n == len(trips) - 1:
                 ends = ctx.end_states[kt]
