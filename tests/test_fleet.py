@@ -19,7 +19,7 @@ from pathlib import Path
 import pytest
 
 from core.cli import main
-from core.errors import InputError
+from core.errors import FleetError, InputError
 from core.files import read_network
 from core.files.plan_json import (
     fleet_plan_from_dict,
@@ -155,6 +155,20 @@ def test_mixed_fleet_loaded_by_each_vehicles_demand_model() -> None:
             assert trip.load == pytest.approx(checked.load)
     by_type = {r.vehicle_type: r for r in plan.routes}
     assert by_type["narrow"].service_m > 0.6 * work
+
+
+@needs_bench
+def test_a_street_no_vehicle_can_carry_is_named() -> None:
+    # gdb1 (Golden, DeArmon & Baker 1983): its heaviest street needs more than half its
+    # own load; a fleet with one vehicle large enough can still plan it.
+    net = _carp("gdb1")
+    heaviest = max(net.required(), key=lambda s: s.demand)
+    small = VehicleType(name="small", home=net.depot, capacity=heaviest.demand / 2)
+    with pytest.raises(FleetError, match=f"street {heaviest.label} needs more per pass"):
+        plan_fleet(net, FleetSettings(vehicles=(small,), iterations=50))
+    big = replace(small, name="big", capacity=float(net.meta["capacity"]))
+    plan = plan_fleet(net, FleetSettings(vehicles=(small, big), iterations=300))
+    assert plan.feasible, plan.issues
 
 
 @needs_bench

@@ -280,11 +280,9 @@ def build_tasks(network: Network, graph: StateGraph, settings: FleetSettings) ->
     Raises
     ------
     FleetError
-        A single pass needs more than a full load of the largest vehicle.
+        A single pass needs more than a full load of every vehicle type.
     """
     vehicle = settings.vehicles[0]
-    caps = [v.capacity for v in settings.vehicles if v.capacity is not None]
-    biggest = max(caps) if len(caps) == len(settings.vehicles) else None
     tasks: list[Task] = []
     for seg in network.required():
         if not serviced_today(seg, settings.day):
@@ -295,13 +293,19 @@ def build_tasks(network: Network, graph: StateGraph, settings: FleetSettings) ->
         fa = graph.arc_of.get((seg.id, True))
         ba = graph.arc_of.get((seg.id, False))
         kinds = [(fa,)] * f + [(ba,)] * b + [tuple(x for x in (fa, ba) if x is not None)] * e
+        if not any(
+            v.capacity is None or v.pass_demand(seg, n) <= v.capacity * (1 + 1e-9)
+            for v in settings.vehicles
+        ):
+            need = ", ".join(
+                f"{v.pass_demand(seg, n):g} for {v.name!r} (a full load is {v.capacity:g})"
+                for v in settings.vehicles
+            )
+            raise FleetError(
+                f"street {seg.label} needs more per pass than any vehicle carries: {need}"
+            )
         for arcs in kinds:
             demand = vehicle.pass_demand(seg, n)
-            if biggest is not None and demand > biggest * (1 + 1e-9):
-                raise FleetError(
-                    f"street {seg.label} needs {demand:g} per pass, more than a full load "
-                    f"({biggest:g})"
-                )
             tasks.append(
                 Task(
                     len(tasks),
