@@ -677,23 +677,7 @@ def print_card(parent_widget: object, content: CardContent, page_size: str = "A4
     Returns False when the user cancels.  The card keeps its own margins, so
     the printer is used in full-page mode.
     """
-    from PySide6.QtPrintSupport import QPrintDialog, QPrinter
-
-    name = check_page_size(page_size)
-    printer = QPrinter(QPrinter.PrinterMode.HighResolution)
-    printer.setFullPage(True)
-    _setup(printer, name)
-    printer.setDocName(f"Route card {content.header.district} {content.header.route}".strip())
-    dialog = QPrintDialog(printer, parent_widget)  # type: ignore[arg-type]
-    dialog.setWindowTitle("Print the route card")
-    if dialog.exec() != QPrintDialog.DialogCode.Accepted:
-        return False
-    chosen = printer.pageLayout().pageSize().id()
-    for key, pid in PAGE_SIZES.items():
-        if pid == chosen:
-            name = key
-    paint_card(printer, content, name)
-    return True
+    return print_cards(parent_widget, [content], page_size)
 
 
 def print_cards(
@@ -713,9 +697,12 @@ def print_cards(
     printer = QPrinter(QPrinter.PrinterMode.HighResolution)
     printer.setFullPage(True)
     _setup(printer, name)
-    printer.setDocName(f"Route cards {contents[0].header.district}".strip())
+    one = len(contents) == 1
+    head = contents[0].header
+    doc = f"Route card {head.district} {head.route}" if one else f"Route cards {head.district}"
+    printer.setDocName(doc.strip())
     dialog = QPrintDialog(printer, parent_widget)  # type: ignore[arg-type]
-    dialog.setWindowTitle("Print the route cards")
+    dialog.setWindowTitle("Print the route card" if one else "Print the route cards")
     if dialog.exec() != QPrintDialog.DialogCode.Accepted:
         return False
     chosen = printer.pageLayout().pageSize().id()

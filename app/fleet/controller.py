@@ -43,9 +43,10 @@ from app.fleet.figures import (
 )
 from app.fleet.panel import RoutesPanel
 from app.fleet.runner import FleetRunner
+from app.plan.controller import NO_STREETS_TEXT, failure_text
 from core.activity import SWEEPING, Activity
 from core.card import CardContent
-from core.errors import DepotError, RoundsmanError
+from core.errors import RoundsmanError
 from core.fleet.result import FleetPlan
 from core.fleet.settings import FleetSettings
 from core.plan import Plan
@@ -63,20 +64,7 @@ CLEARED_TEXT = "The drawing was changed, so the fleet's routes were cleared."
 NO_DEPOT_TEXT = (
     "Planning routes needs a depot: place it on a junction with the Depot tool, then plan again."
 )
-NO_STREETS_TEXT = "There are no streets to plan yet: draw or open a district first."
 NO_PLAN_TEXT = "Plan routes for the fleet first."
-
-
-def failure_text(exc: object, network: Any = None) -> str:
-    """A failed run in words for people: the engine's own message (it names the vehicle,
-    junction or street at fault), or the type and text of anything unexpected."""
-    if network is not None and len(network) == 0:
-        return NO_STREETS_TEXT
-    if isinstance(exc, DepotError) and network is not None and network.depot is None:
-        return NO_DEPOT_TEXT
-    if isinstance(exc, RoundsmanError):
-        return f"Route planning failed: {exc}"
-    return f"Route planning failed with an unexpected error ({type(exc).__name__}: {exc})."
 
 
 class FleetController(QObject):
@@ -248,7 +236,7 @@ class FleetController(QObject):
 
     def _on_failed(self, exc: object) -> None:
         self._running(False)
-        self._say(failure_text(exc, self.document.network))
+        self._say(failure_text(exc, self.document.network, "Route planning", NO_DEPOT_TEXT))
 
     def _on_cancelled(self) -> None:
         self._running(False)
@@ -456,28 +444,24 @@ def install_fleet(window: QMainWindow) -> FleetController:
     dock.hide()
     ctl.dock = dock
     menus = getattr(window, "menus", {})
-    plan_menu = menus.get("plan")
-    if plan_menu is not None:
-        # right after the circuit's plan and cancel entries
-        actions = plan_menu.actions()
-        cancel = getattr(getattr(window, "planning", None), "cancel_action", None)
-        after = actions.index(cancel) + 1 if cancel in actions else len(actions)
-        before = actions[after] if after < len(actions) else None
-        if before is None:
-            plan_menu.addActions([ctl.plan_action, ctl.cancel_action])
-        else:
-            plan_menu.insertActions(before, [ctl.plan_action, ctl.cancel_action])
-    file_menu = menus.get("file")
-    if file_menu is not None:
-        actions = file_menu.actions()
-        card = getattr(window, "act_print_card", None)
-        after = actions.index(card) + 1 if card in actions else len(actions)
-        before = actions[after] if after < len(actions) else None
-        if before is None:
-            file_menu.addActions([ctl.print_action, ctl.pdf_action])
-        else:
-            file_menu.insertActions(before, [ctl.print_action, ctl.pdf_action])
+    # right after the circuit's plan and cancel entries, and after Print route card
+    cancel = getattr(getattr(window, "planning", None), "cancel_action", None)
+    _insert_after(menus.get("plan"), cancel, [ctl.plan_action, ctl.cancel_action])
+    card = getattr(window, "act_print_card", None)
+    _insert_after(menus.get("file"), card, [ctl.print_action, ctl.pdf_action])
     view_menu = menus.get("view")
     if view_menu is not None:
         view_menu.addAction(dock.toggleViewAction())
     return ctl
+
+
+def _insert_after(menu: Any, anchor: Any, actions: list[QAction]) -> None:
+    """Put ``actions`` into ``menu`` right after ``anchor`` (at the end without it)."""
+    if menu is None:
+        return
+    present = menu.actions()
+    after = present.index(anchor) + 1 if anchor in present else len(present)
+    if after < len(present):
+        menu.insertActions(present[after], actions)
+    else:
+        menu.addActions(actions)

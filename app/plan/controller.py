@@ -68,17 +68,20 @@ NO_DEPOT_TEXT = (
 NO_STREETS_TEXT = "There are no streets to plan yet: draw or open a district first."
 
 
-def failure_text(exc: object, network: Any = None) -> str:
-    """The message for a failed run: the engine's own words for its errors (with the
-    window's wording where the engine speaks of command-line options), the type and
-    text for anything unexpected."""
+def failure_text(
+    exc: object, network: Any = None, what: str = "Planning", no_depot: str = NO_DEPOT_TEXT
+) -> str:
+    """The message for a failed run (``what``: "Planning", "Route planning"): the
+    engine's own words for its errors (they name the vehicle, junction or street at
+    fault), ``no_depot`` when the drawing has no depot, the type and text for anything
+    unexpected."""
     if network is not None and len(network) == 0:
         return NO_STREETS_TEXT
     if isinstance(exc, DepotError) and network is not None and network.depot is None:
-        return NO_DEPOT_TEXT
+        return no_depot
     if isinstance(exc, RoundsmanError):
-        return f"Planning failed: {exc}"
-    return f"Planning failed with an unexpected error ({type(exc).__name__}: {exc})."
+        return f"{what} failed: {exc}"
+    return f"{what} failed with an unexpected error ({type(exc).__name__}: {exc})."
 
 
 class PlanningController(QObject):
