@@ -329,6 +329,11 @@ def task_demands(network: Network, tasks: Sequence[Task], vehicle: VehicleType) 
     return out
 
 
+def task_minutes(network: Network, tasks: Sequence[Task], vehicle: VehicleType) -> list[float]:
+    """The service minutes of each task at ``vehicle``'s speeds.  O(n)."""
+    return [vehicle.pass_minutes(network.segments[t.segment], True) for t in tasks]
+
+
 def check_reachable(graph: StateGraph, tasks: list[Task], starts: list[str]) -> None:
     """Raise :class:`UnreachableError` naming the streets no vehicle can reach and leave.
 

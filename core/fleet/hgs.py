@@ -50,7 +50,7 @@ from pyvrp.search import NeighbourhoodParams
 from pyvrp.solve import SolveParams
 from pyvrp.stop import StoppingCriterion
 
-from core.fleet.graph import StateGraph, Task, task_demands
+from core.fleet.graph import StateGraph, Task, task_demands, task_minutes
 from core.fleet.settings import FleetSettings
 
 Visit = tuple[int, int]
@@ -284,7 +284,6 @@ class NodeModel:
                 dur[same_task] = 0
             np.fill_diagonal(dur, 0)
             self.durations.append(dur)
-        self.duration = self.durations[0]
         self._build_data(settings, timed)
 
     def _minutes(
@@ -342,11 +341,10 @@ class NodeModel:
         for ti, _, _ in self.clients:
             count[ti] += 1
         # service minutes of each task per speed profile (profile 0: the tasks' own)
-        segs = self.graph.network.segments
         service_min = [[t.service_min for t in self.tasks]]
         for p in range(1, len(self.durations)):
             v = settings.vehicles[self.profile.index(p)]
-            service_min.append([v.pass_minutes(segs[t.segment], True) for t in self.tasks])
+            service_min.append(task_minutes(self.graph.network, self.tasks, v))
         services: list[list[int]] = [[] for _ in self.durations]
         for ti, _, _ in self.clients:
             t = self.tasks[ti]

@@ -9,8 +9,9 @@
    (:mod:`core.fleet.hgs`), warm-started from the split.  With a limited fleet and a
    time limit, a fifth of the search first finds a turn-aware giant tour for one
    vehicle, whose fleet split becomes the warm start when it is shorter.  For as many
-   vehicles as needed, the search's second half is held to one route fewer than its
-   first half found, while the demand allows (:func:`_search`).
+   vehicles as needed, a search that stalls with more routes than the demand needs
+   hands the rest of its budget to fresh searches held to one route fewer
+   (:func:`_search`).
 4. The candidates are checked by the independent checker (:mod:`core.fleet.check`);
    the shortest feasible one is returned, with the checker's totals.
 
@@ -34,7 +35,14 @@ import pyvrp
 
 from core.errors import Cancelled, DepotError, RoundsmanError
 from core.fleet.check import check_plan
-from core.fleet.graph import StateGraph, Task, build_tasks, check_reachable, task_demands
+from core.fleet.graph import (
+    StateGraph,
+    Task,
+    build_tasks,
+    check_reachable,
+    task_demands,
+    task_minutes,
+)
 from core.fleet.hgs import HandOver, NodeModel
 from core.fleet.result import FleetPlan, Route, Trip
 from core.fleet.settings import FleetSettings, VehicleType, priority_of, serviced_today
@@ -93,10 +101,7 @@ class _Context:
         ]
         self.profile = [g.profile_of(v) for v in settings.vehicles]
         """Per vehicle type, its speed profile in the state graph."""
-        self.service_min = [
-            [v.pass_minutes(network.segments[t.segment], True) for t in self.tasks]
-            for v in settings.vehicles
-        ]
+        self.service_min = [task_minutes(network, self.tasks, v) for v in settings.vehicles]
         """Per vehicle type, the service minutes of each task at its speeds."""
         self.demand = [task_demands(network, self.tasks, v) for v in settings.vehicles]
         """Per vehicle type, the load of each task under its demand model."""
