@@ -28,12 +28,13 @@ import atexit
 import threading
 import time
 from collections.abc import Callable
+from typing import Any
 
 from PySide6.QtCore import QObject, QThread, Signal
 
 from core.errors import Cancelled
 
-__all__ = ["EngineRunner", "Job", "Progress"]
+__all__ = ["EngineRunner", "Job", "Progress", "RunControls"]
 
 Progress = Callable[[str, float], None]
 Job = Callable[[Progress, threading.Event], object]
@@ -168,3 +169,45 @@ class EngineRunner(QObject):
     def _on_cancelled(self) -> None:
         if self._end(self.sender()):
             self.cancelled.emit()
+
+
+class RunControls:
+    """What the window's controllers of an engine run share: Cancel with a word for the
+    person, stopping the run when the window closes, and the status line.
+
+    The controller (a QObject) provides ``runner`` (an :class:`EngineRunner`),
+    ``panel`` (with a ``status`` label), ``status_bar`` (or None), its ``message``
+    signal and ``last_message``.
+    """
+
+    STATUS_MS = 15_000
+    """How long a message stays in the window's status bar."""
+    SHUTDOWN_MS = 15_000
+    """How long closing the window waits for a cancelled run's thread."""
+    CANCEL_IN_STATUS_BAR = False
+    """Whether "Cancelling…" also goes to the window's status bar."""
+    runner: EngineRunner
+    panel: Any
+    status_bar: Any
+    message: Any
+    last_message: str
+    _cancelling = False
+
+    def cancel(self) -> None:
+        """Ask the running engine call to stop; it reports ``cancelled`` when it has."""
+        if self.runner.running:
+            self._cancelling = True
+            self._say("Cancelling…", status=self.CANCEL_IN_STATUS_BAR)
+            self.runner.cancel()
+
+    def shutdown(self) -> None:
+        """Stop a run and wait for its thread (window closing, program quitting)."""
+        self.runner.cancel()
+        self.runner.wait(self.SHUTDOWN_MS)
+
+    def _say(self, text: str, *, status: bool = True) -> None:
+        self.last_message = text
+        self.panel.status.setText(text)
+        if status and self.status_bar is not None:
+            self.status_bar.showMessage(text, self.STATUS_MS)
+        self.message.emit(text)

@@ -17,6 +17,7 @@ from PySide6.QtWidgets import QApplication, QDockWidget, QFileDialog, QMainWindo
 
 from app.compare.panel import ComparePanel, parse_ids
 from app.compare.runner import CompareRunner
+from app.worker import RunControls
 from core.errors import RoundsmanError
 from core.files.atomic import atomic_write_text
 
@@ -26,8 +27,11 @@ CSV_FILTER = "CSV table (*.csv)"
 CANCELLED_TEXT = "The comparison was cancelled."
 
 
-class ComparisonController(QObject):
+class ComparisonController(RunControls, QObject):
     """Runs :func:`core.fleet.compare.compare_depots` for the document and shows it."""
+
+    STATUS_MS = 10_000
+    SHUTDOWN_MS = 30_000  # worker processes take longer to wind down
 
     message = Signal(str)
 
@@ -112,15 +116,6 @@ class ComparisonController(QObject):
         self._say(f"Comparing {len(candidates)} candidates…", status=False)
         return self.runner.start(network, candidates, settings, workers=self.workers)
 
-    def cancel(self) -> None:
-        if self.runner.running:
-            self._say("Cancelling…", status=False)
-            self.runner.cancel()
-
-    def shutdown(self) -> None:
-        self.runner.cancel()
-        self.runner.wait(30_000)
-
     def _on_started(self) -> None:
         self.panel.set_running(True)
         self.show_panel()
@@ -150,13 +145,6 @@ class ComparisonController(QObject):
     def _on_cancelled(self) -> None:
         self.panel.set_running(False)
         self._say(CANCELLED_TEXT)
-
-    def _say(self, text: str, *, status: bool = True) -> None:
-        self.last_message = text
-        self.panel.status.setText(text)
-        if status and self.status_bar is not None:
-            self.status_bar.showMessage(text, 10_000)
-        self.message.emit(text)
 
     # -- results --------------------------------------------------------------------------
     def pick_row(self, index: int) -> None:

@@ -44,6 +44,7 @@ from app.fleet.figures import (
 from app.fleet.panel import RoutesPanel
 from app.fleet.runner import FleetRunner
 from app.plan.controller import NO_STREETS_TEXT, failure_text
+from app.worker import RunControls
 from core.activity import SWEEPING, Activity
 from core.card import CardContent
 from core.errors import RoundsmanError
@@ -67,7 +68,7 @@ NO_DEPOT_TEXT = (
 NO_PLAN_TEXT = "Plan routes for the fleet first."
 
 
-class FleetController(QObject):
+class FleetController(RunControls, QObject):
     """Plans routes for a fleet on the document's network and shows them."""
 
     planChanged = Signal(object)
@@ -189,17 +190,6 @@ class FleetController(QObject):
         self._pending = (settings, activity)
         return self.runner.start(network, settings)
 
-    def cancel(self) -> None:
-        if self.runner.running:
-            self._cancelling = True
-            self._say("Cancelling…", status=False)
-            self.runner.cancel()
-
-    def shutdown(self) -> None:
-        """Stop a run and wait for its thread (window closing, program quitting)."""
-        self.runner.cancel()
-        self.runner.wait(15_000)
-
     def _running(self, on: bool) -> None:
         self.plan_action.setEnabled(not on)
         self.cancel_action.setEnabled(on)
@@ -241,13 +231,6 @@ class FleetController(QObject):
     def _on_cancelled(self) -> None:
         self._running(False)
         self._say(CANCELLED_TEXT)
-
-    def _say(self, text: str, *, status: bool = True) -> None:
-        self.last_message = text
-        self.panel.status.setText(text)
-        if status and self.status_bar is not None:
-            self.status_bar.showMessage(text, 15_000)
-        self.message.emit(text)
 
     # -- the plan --------------------------------------------------------------------
     def set_plan(

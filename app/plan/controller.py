@@ -45,6 +45,7 @@ from app.plan.overlay import CircuitOverlay
 from app.plan.panel import PlanPanel
 from app.plan.summary import summary_rows
 from app.plan.worker import PlanRunner
+from app.worker import RunControls
 from core.errors import DepotError, NetworkError, RoundsmanError
 
 __all__ = ["PlanningController", "install_planning"]
@@ -84,8 +85,10 @@ def failure_text(
     return f"{what} failed with an unexpected error ({type(exc).__name__}: {exc})."
 
 
-class PlanningController(QObject):
+class PlanningController(RunControls, QObject):
     """Runs the engine for the document and shows the result on the canvas."""
+
+    CANCEL_IN_STATUS_BAR = True
 
     stepPicked = Signal(int)
     """A pass was clicked on the canvas (0-based step index)."""
@@ -180,17 +183,6 @@ class PlanningController(QObject):
         self._time_limit = float(options.get("time_limit", 30.0))  # type: ignore[arg-type]
         return self.runner.start(self.document.network, self.document.depot, **options)
 
-    def cancel(self) -> None:
-        if self.runner.running:
-            self._cancelling = True
-            self._say("Cancelling…")
-            self.runner.cancel()
-
-    def shutdown(self) -> None:
-        """Stop a run and wait for its thread (window closing, program quitting)."""
-        self.runner.cancel()
-        self.runner.wait(15_000)
-
     def _running(self, on: bool) -> None:
         self.plan_action.setEnabled(not on)
         self.cancel_action.setEnabled(on)
@@ -265,13 +257,6 @@ class PlanningController(QObject):
     def _on_cancelled(self) -> None:
         self._running(False)
         self._say(CANCELLED_TEXT)
-
-    def _say(self, text: str, *, status: bool = True) -> None:
-        self.last_message = text
-        self.panel.status.setText(text)
-        if status and self.status_bar is not None:
-            self.status_bar.showMessage(text, 15_000)
-        self.message.emit(text)
 
     # -- the document's side -----------------------------------------------------------
     def _on_edited(self, *_: object) -> None:
