@@ -32,6 +32,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from app.cell_table import CellTableModel
 from app.fleet.choices import (
     DAY_CHOICES,
     MAX_SEARCH_S,
@@ -43,7 +44,6 @@ from app.fleet.choices import (
     parse_vehicles,
 )
 from app.fleet.figures import ROUTE_COLUMNS, TRIP_COLUMNS, unit_name
-from app.fleet.tables import CellTableModel
 from core.fleet.cards import weekday_name
 
 __all__ = ["RoutesPanel", "VehiclesBox"]

@@ -1,7 +1,8 @@
-"""The route and trip tables as Qt models: rows of words made by :mod:`app.fleet.figures`.
+"""A read-only Qt table of text cells, shared by the window's result tables.
 
-The models show the cells they are handed and never hold the plan; the controller
-makes the cells from its plan and hands them in.
+The fleet's route and trip tables (cells from :mod:`app.fleet.figures`) and the depot
+comparison (cells from :func:`core.fleet.compare.row_values`) show the cells they are
+handed and never hold the plan; their controllers make the cells and hand them in.
 """
 
 from __future__ import annotations
@@ -20,11 +21,17 @@ class CellTableModel(QAbstractTableModel):
     """A read-only table of text cells with column titles and a tooltip per row."""
 
     def __init__(
-        self, titles: Sequence[str], numeric: Sequence[int] = (), parent: Any = None
+        self,
+        titles: Sequence[str],
+        numeric: Sequence[int] = (),
+        parent: Any = None,
+        *,
+        numbered: bool = False,
     ) -> None:
         super().__init__(parent)
         self._titles = list(titles)
         self._numeric = set(numeric)
+        self._numbered = numbered  # row numbers down the side
         self._cells: list[list[str]] = []
         self._tips: list[str] = []
 
@@ -73,4 +80,6 @@ class CellTableModel(QAbstractTableModel):
             return None
         if orientation == Qt.Orientation.Horizontal and 0 <= section < len(self._titles):
             return self._titles[section]
+        if orientation == Qt.Orientation.Vertical and self._numbered:
+            return str(section + 1)
         return None
