@@ -5,7 +5,7 @@
 - :mod:`app.fleet.figures` — the plan's figures as words and table cells; no Qt;
 - :mod:`app.fleet.runner` — :class:`FleetRunner`, :func:`core.fleet.plan_fleet` on a
   QThread with progress and cancel;
-- :mod:`app.fleet.tables` — the route and trip tables as Qt models;
+- the route and trip tables are :class:`app.cell_table.CellTableModel`s;
 - :mod:`app.fleet.panel` — the "Routes" panel with its Vehicles settings;
 - :mod:`app.fleet.controller` — holds the fleet plan, observes the document, shows a
   route through the circuit overlay, prints and saves the route cards
