@@ -21,7 +21,6 @@ from PySide6.QtWidgets import (
     QHeaderView,
     QLabel,
     QLineEdit,
-    QProgressBar,
     QPushButton,
     QScrollArea,
     QSpinBox,
@@ -44,6 +43,7 @@ from app.fleet.choices import (
     parse_vehicles,
 )
 from app.fleet.figures import ROUTE_COLUMNS, TRIP_COLUMNS, unit_name
+from app.plan.panel import run_row
 from core.fleet.cards import weekday_name
 
 __all__ = ["RoutesPanel", "VehiclesBox"]
@@ -241,18 +241,10 @@ class RoutesPanel(QWidget):
     ) -> None:
         super().__init__(parent)
         self.vehicles = VehiclesBox()
-        run = QHBoxLayout()
-        for action in (plan_action, cancel_action):
-            button = QToolButton()
-            button.setDefaultAction(action)
-            button.setToolButtonStyle(Qt.ToolButtonStyle.ToolButtonTextOnly)
-            run.addWidget(button)
-        run.addStretch(1)
-        self.progress = QProgressBar()
-        self.progress.setRange(0, 100)
-        self.progress.setVisible(False)
-        self.status = QLabel("Press “Plan routes for the fleet” to split the work into routes.")
-        self.status.setWordWrap(True)
+        run, self.progress, self.status = run_row(
+            (plan_action, cancel_action),
+            "Press “Plan routes for the fleet” to split the work into routes.",
+        )
         self.summary = QLabel("")
         self.summary.setTextFormat(Qt.TextFormat.RichText)
         self.summary.setWordWrap(True)

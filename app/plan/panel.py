@@ -43,6 +43,25 @@ DEFAULT_TIME_LIMIT_S = 30
 """The engine's own default budget (``plan_circuit(time_limit=30.0)``)."""
 
 
+def run_row(actions: Sequence[QAction], hint: str) -> tuple[QHBoxLayout, QProgressBar, QLabel]:
+    """The run and cancel buttons of a panel (text-only, from ``actions``), its hidden
+    progress bar and its status line showing ``hint``; shared by the Circuit and
+    Routes panels."""
+    run = QHBoxLayout()
+    for action in actions:
+        button = QToolButton()
+        button.setDefaultAction(action)
+        button.setToolButtonStyle(Qt.ToolButtonStyle.ToolButtonTextOnly)
+        run.addWidget(button)
+    run.addStretch(1)
+    progress = QProgressBar()
+    progress.setRange(0, 100)
+    progress.setVisible(False)
+    status = QLabel(hint)
+    status.setWordWrap(True)
+    return run, progress, status
+
+
 class PlanPanel(QWidget):
     """Settings, progress, summary and steps of the circuit."""
 
@@ -53,18 +72,9 @@ class PlanPanel(QWidget):
     ) -> None:
         super().__init__(parent)
         # -- run buttons and progress
-        run = QHBoxLayout()
-        for action in (plan_action, cancel_action):
-            button = QToolButton()
-            button.setDefaultAction(action)
-            button.setToolButtonStyle(Qt.ToolButtonStyle.ToolButtonTextOnly)
-            run.addWidget(button)
-        run.addStretch(1)
-        self.progress = QProgressBar()
-        self.progress.setRange(0, 100)
-        self.progress.setVisible(False)
-        self.status = QLabel("Press “Plan circuit” to plan the drawing.")
-        self.status.setWordWrap(True)
+        run, self.progress, self.status = run_row(
+            (plan_action, cancel_action), "Press “Plan circuit” to plan the drawing."
+        )
         # -- settings
         self.activity = QComboBox()
         for name, preset in PRESETS.items():
