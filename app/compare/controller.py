@@ -11,12 +11,13 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any
 
-from PySide6.QtCore import QObject, QPointF, Qt, Signal
+from PySide6.QtCore import QObject, QPointF, Signal
 from PySide6.QtGui import QAction
 from PySide6.QtWidgets import QApplication, QDockWidget, QFileDialog, QMainWindow
 
 from app.compare.panel import ComparePanel, parse_ids
 from app.compare.runner import CompareRunner
+from app.plan.controller import dock_beside_circuit
 from app.worker import RunControls
 from core.errors import RoundsmanError
 from core.files.atomic import atomic_write_text
@@ -201,14 +202,7 @@ def install_comparison(window: QMainWindow) -> ComparisonController:
     app = QApplication.instance()
     if app is not None:  # stop the processes before Qt goes away
         app.aboutToQuit.connect(ctl.shutdown)
-    dock = QDockWidget("Depots", window)
-    dock.setObjectName("depotCompareDock")
-    dock.setWidget(ctl.panel)
-    window.addDockWidget(Qt.DockWidgetArea.RightDockWidgetArea, dock)
-    planning_dock = getattr(getattr(window, "planning", None), "circuit_dock", None)
-    if isinstance(planning_dock, QDockWidget):
-        window.tabifyDockWidget(planning_dock, dock)
-    dock.hide()
+    dock = dock_beside_circuit(window, "Depots", "depotCompareDock", ctl.panel)
     ctl.dock = dock
     menus = getattr(window, "menus", {})
     plan_menu = menus.get("plan")

@@ -26,7 +26,7 @@ from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
-from PySide6.QtCore import QObject, QSettings, Qt, Signal
+from PySide6.QtCore import QObject, QSettings, Signal
 from PySide6.QtGui import QAction, QKeySequence
 from PySide6.QtWidgets import QApplication, QDockWidget, QFileDialog, QMainWindow, QStatusBar
 
@@ -43,7 +43,7 @@ from app.fleet.figures import (
 )
 from app.fleet.panel import RoutesPanel
 from app.fleet.runner import FleetRunner
-from app.plan.controller import NO_STREETS_TEXT, failure_text
+from app.plan.controller import NO_STREETS_TEXT, dock_beside_circuit, failure_text
 from app.worker import RunControls
 from core.activity import SWEEPING, Activity
 from core.card import CardContent
@@ -417,14 +417,7 @@ def install_fleet(window: QMainWindow) -> FleetController:
     app = QApplication.instance()
     if app is not None:  # stop a run before Qt goes away (the thread would abort the exit)
         app.aboutToQuit.connect(ctl.shutdown)
-    dock = QDockWidget("Routes", window)
-    dock.setObjectName("routesDock")
-    dock.setWidget(ctl.panel)
-    window.addDockWidget(Qt.DockWidgetArea.RightDockWidgetArea, dock)
-    circuit_dock = getattr(getattr(window, "planning", None), "circuit_dock", None)
-    if isinstance(circuit_dock, QDockWidget):
-        window.tabifyDockWidget(circuit_dock, dock)
-    dock.hide()
+    dock = dock_beside_circuit(window, "Routes", "routesDock", ctl.panel)
     ctl.dock = dock
     menus = getattr(window, "menus", {})
     # right after the circuit's plan and cancel entries, and after Print route card

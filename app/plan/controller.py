@@ -386,6 +386,22 @@ class PlanningController(RunControls, QObject):
         return False
 
 
+def dock_beside_circuit(
+    window: QMainWindow, title: str, object_name: str, widget: Any
+) -> QDockWidget:
+    """A hidden dock for ``widget`` on the right, tabbed with the Circuit dock when the
+    window has one (the Depots and Routes panels sit there)."""
+    dock = QDockWidget(title, window)
+    dock.setObjectName(object_name)
+    dock.setWidget(widget)
+    window.addDockWidget(Qt.DockWidgetArea.RightDockWidgetArea, dock)
+    circuit_dock = getattr(getattr(window, "planning", None), "circuit_dock", None)
+    if isinstance(circuit_dock, QDockWidget):
+        window.tabifyDockWidget(circuit_dock, dock)
+    dock.hide()
+    return dock
+
+
 def install_planning(window: QMainWindow) -> PlanningController:
     """Add planning to Roundsman's main window (``window.document``, ``window.scene``,
     ``window.view``, ``window.menus["plan"]``, ``window.plan_toolbar``)."""
